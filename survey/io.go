@@ -132,20 +132,29 @@ func Write(path string, t *Table, opt WriteOptions) error {
 	if f == FormatUnknown {
 		f = FormatOf(path)
 	}
-	var enc func(w io.Writer, t *Table) error
-	switch f {
-	case FormatFITS:
-		enc = writeFITS
-	case FormatCSV:
-		enc = writeCSV
-	case FormatParquet:
-		enc = writeParquet
-	case FormatArrow:
-		enc = writeArrow
-	default:
+	if f == FormatUnknown {
 		return fmt.Errorf("%s: unknown output extension; expected .fits, .csv, .parquet or .arrow", path)
 	}
-	return WriteAtomic(path, func(w io.Writer) error { return enc(w, t) })
+	return WriteAtomic(path, func(w io.Writer) error { return Encode(w, t, f) })
+}
+
+// Encode writes t to w in format f, for streams such as standard output.
+// Files should be written with Write, which makes them appear only when complete.
+func Encode(w io.Writer, t *Table, f Format) error {
+	if err := t.Check(); err != nil {
+		return err
+	}
+	switch f {
+	case FormatFITS:
+		return writeFITS(w, t)
+	case FormatCSV:
+		return writeCSV(w, t)
+	case FormatParquet:
+		return writeParquet(w, t)
+	case FormatArrow:
+		return writeArrow(w, t)
+	}
+	return fmt.Errorf("survey: cannot encode format %v", f)
 }
 
 // WriteAtomic creates path by writing to a temporary file beside it and
