@@ -105,7 +105,8 @@ func (c *Column) NullCount() int {
 	return n
 }
 
-// SetNull marks row i null, allocating the mask on first use.
+// SetNull marks row i null, allocating the mask on first use at the
+// column's current length: call it after the rows are in place.
 func (c *Column) SetNull(i int) {
 	if c.Null == nil {
 		c.Null = make([]bool, c.Len())

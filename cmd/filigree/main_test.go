@@ -1,0 +1,146 @@
+package main
+
+import (
+	"bytes"
+	"encoding/csv"
+	"encoding/json"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"testing"
+)
+
+func run(t *testing.T, args ...string) (code int, stdout, stderr string) {
+	t.Helper()
+	var o, e bytes.Buffer
+	code = runMain(append([]string{"filigree"}, args...), &o, &e)
+	return code, o.String(), e.String()
+}
+
+func TestUsageErrors(t *testing.T) {
+	for _, tc := range []struct {
+		args []string
+		code int
+		want string
+	}{
+		{nil, exitUsage, "Commands:"},
+		{[]string{"frobnicate"}, exitUsage, `unknown command "frobnicate"`},
+		{[]string{"distances", "--no-such-flag"}, exitUsage, "unknown flag: --no-such-flag"},
+		{[]string{"distances"}, exitUsage, "no redshifts"},
+		{[]string{"distances", "--z", "0.1,x"}, exitUsage, `"x" is not a number`},
+		{[]string{"distances", "--z", "1", "--h0", "70"}, exitUsage, "--omega-m"},
+		{[]string{"distances", "--z", "1", "--cosmology", "nosuch"}, exitUsage, "nosuch"},
+		{[]string{"inspect"}, exitUsage, "one catalogue"},
+		{[]string{"inspect", "/nonexistent/cat.csv"}, exitFail, "/nonexistent/cat.csv"},
+		{[]string{"version", "extra"}, exitUsage, "no arguments"},
+	} {
+		code, _, stderr := run(t, tc.args...)
+		if code != tc.code || !strings.Contains(stderr, tc.want) {
+			t.Errorf("%q: exit %d, stderr %q; want exit %d and %q", tc.args, code, stderr, tc.code, tc.want)
+		}
+	}
+}
+
+func TestHelpHasExample(t *testing.T) {
+	for name := range commands {
+		code, out, _ := run(t, name, "--help")
+		if code != exitOK || !strings.Contains(out, "Example:") || !strings.Contains(out, "filigree "+name) {
+			t.Errorf("%s --help: exit %d\n%s", name, code, out)
+		}
+	}
+}
+
+// The Einstein–de Sitter closed form D_C = (2c/H0)(1 − 1/√(1+z)) (Hogg 1999,
+// eq. 15 with Ωm = 1) checks the wiring of explicit cosmology flags end to end.
+func TestDistancesEdS(t *testing.T) {
+	code, out, stderr := run(t, "distances", "--z", "0,0.5,3", "--h0", "70", "--omega-m", "1")
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	var body []string
+	for _, l := range strings.Split(out, "\n") {
+		if !strings.HasPrefix(l, "#") && l != "" {
+			body = append(body, l)
+		}
+	}
+	recs, err := csv.NewReader(strings.NewReader(strings.Join(body, "\n"))).ReadAll()
+	if err != nil {
+		t.Fatal(err)
+	}
+	head := recs[0]
+	idx := map[string]int{}
+	for i, h := range head {
+		idx[h] = i
+	}
+	for _, want := range []string{"z", "comov_dist", "comov_dist_mpc", "lum_dist_mpc", "ang_dist_mpc", "dist_mod", "growth", "growth_rate"} {
+		if _, ok := idx[want]; !ok {
+			t.Fatalf("column %s missing from %q", want, head)
+		}
+	}
+	const c = 299792.458
+	for _, r := range recs[1:] {
+		z, _ := strconv.ParseFloat(r[idx["z"]], 64)
+		d, _ := strconv.ParseFloat(r[idx["comov_dist_mpc"]], 64)
+		dh, _ := strconv.ParseFloat(r[idx["comov_dist"]], 64)
+		g, _ := strconv.ParseFloat(r[idx["growth"]], 64)
+		want := 2 * c / 70 * (1 - 1/math.Sqrt(1+z))
+		if math.Abs(d-want) > 1e-9*math.Max(1, want) || math.Abs(dh-0.7*want) > 1e-9*math.Max(1, want) {
+			t.Errorf("z=%v: D_C %v (%v Mpc/h), want %v", z, d, dh, want)
+		}
+		// EdS growth: D ∝ a (from memory: the growing mode of an EdS universe).
+		if math.Abs(g-1/(1+z)) > 1e-6 {
+			t.Errorf("z=%v: growth %v, want %v", z, g, 1/(1+z))
+		}
+	}
+	if !strings.Contains(out, "# cosmology: custom") {
+		t.Errorf("no cosmology line in CSV output:\n%s", out)
+	}
+}
+
+func TestDistancesFileAndSummary(t *testing.T) {
+	dir := t.TempDir()
+	out := filepath.Join(dir, "d.csv")
+	sum := filepath.Join(dir, "s.json")
+	code, _, stderr := run(t, "distances", "--zmin", "0", "--zmax", "2", "--steps", "5", "-o", out, "--summary", sum)
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	b, err := os.ReadFile(sum)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var s map[string]any
+	if err := json.Unmarshal(b, &s); err != nil {
+		t.Fatalf("summary is not JSON: %v\n%s", err, b)
+	}
+	if s["command"] != "distances" || s["rows"] != 5.0 || s["provenance"] == nil {
+		t.Errorf("summary: %s", b)
+	}
+	if _, err := os.Stat(out); err != nil {
+		t.Error(err)
+	}
+	entries, _ := os.ReadDir(dir)
+	if len(entries) != 2 {
+		t.Errorf("leftover files: %v", entries)
+	}
+}
+
+func TestInspectReportsProblems(t *testing.T) {
+	dir := t.TempDir()
+	cat := filepath.Join(dir, "cat.csv")
+	data := "ObjID,RAJ2000,DEJ2000,zspec,mag\n1,10.5,-3.2,0.12,17.1\n2,370,5,0.2,18\n3,20,95,0.3,\n1,30,1,-0.1,19\n"
+	if err := os.WriteFile(cat, []byte(data), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	code, out, stderr := run(t, "inspect", cat)
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	for _, want := range []string{"rows:    4", "RAJ2000 (guessed)", "zspec (guessed)", "ObjID (guessed)", "2 bad rows", "1 RA values outside [0, 360) wrapped", "row 3: column \"DEJ2000\": value 95", "duplicate ID (first at row 1)"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("inspect output lacks %q:\n%s", want, out)
+		}
+	}
+}
