@@ -90,6 +90,12 @@ func Read(path string, opt ReadOptions) (*Table, error) {
 	return ReadAll(r)
 }
 
+// appender is implemented by readers that can decode a batch directly onto
+// the end of a table with the reader's columns (ReadAll uses it).
+type appender interface {
+	appendNext(dst *Table, max int) (rows int, err error)
+}
+
 // ReadAll drains a Reader into one Table, preallocating when the row count is known.
 func ReadAll(r Reader) (*Table, error) {
 	s := r.Schema()
@@ -100,6 +106,19 @@ func ReadAll(r Reader) (*Table, error) {
 	t := &Table{Name: s.Name, Meta: s.Meta}
 	for _, c := range s.Cols {
 		t.Cols = append(t.Cols, c.cloneEmpty(int(n)))
+	}
+	if ap, ok := r.(appender); ok {
+		// Decode straight into the preallocated table: no batch garbage, so
+		// the peak stays near the table's own size.
+		for {
+			_, err := ap.appendNext(t, 0)
+			if err == io.EOF {
+				return t, nil
+			}
+			if err != nil {
+				return nil, err
+			}
+		}
 	}
 	for {
 		b, err := r.Next(0)
