@@ -90,6 +90,9 @@ func Read(path string, opt ReadOptions) (*Table, error) {
 	return ReadAll(r)
 }
 
+// maxPrealloc bounds the rows ReadAll reserves from a file's stated count.
+const maxPrealloc = 1 << 24
+
 // appender is implemented by readers that can decode a batch directly onto
 // the end of a table with the reader's columns (ReadAll uses it).
 type appender interface {
@@ -103,6 +106,9 @@ func ReadAll(r Reader) (*Table, error) {
 	if n < 0 {
 		n = 0
 	}
+	// A header's row count is a claim, not a promise: preallocate at most
+	// maxPrealloc rows and let append grow past that for real data.
+	n = min(n, maxPrealloc)
 	t := &Table{Name: s.Name, Meta: s.Meta}
 	for _, c := range s.Cols {
 		t.Cols = append(t.Cols, c.cloneEmpty(int(n)))
@@ -241,6 +247,12 @@ func ResolveColumns(file string, have []string, want []string) ([]int, error) {
 		if j < 0 {
 			return nil, &InputError{File: file, Byte: -1, Column: w,
 				Msg: fmt.Sprintf("no such column; the file has %s", strings.Join(have, ", "))}
+		}
+		for _, k := range idx {
+			if k == j {
+				return nil, &InputError{File: file, Byte: -1, Column: w,
+					Msg: fmt.Sprintf("column %q selected twice", have[j])}
+			}
 		}
 		idx = append(idx, j)
 	}
