@@ -8,12 +8,14 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"strings"
 
 	"github.com/apache/arrow/go/v15/arrow"
 	"github.com/apache/arrow/go/v15/arrow/memory"
 	"github.com/apache/arrow/go/v15/parquet"
 	"github.com/apache/arrow/go/v15/parquet/compress"
 	"github.com/apache/arrow/go/v15/parquet/file"
+	"github.com/apache/arrow/go/v15/parquet/metadata"
 	"github.com/apache/arrow/go/v15/parquet/pqarrow"
 )
 
@@ -102,6 +104,9 @@ func openParquet(path string, opt ReadOptions) (rd Reader, err error) {
 	}
 	r.rows = sum
 	r.known = arrowPlausibleRows(sum, st.Size())
+	if err := pqCheckChunks(path, md, r.pf.NumRowGroups(), st.Size()); err != nil {
+		return nil, err
+	}
 
 	// pqarrow decodes a stored Arrow schema without checking the lengths
 	// in it; a corrupt one could make it allocate without bound.
@@ -168,6 +173,38 @@ func openParquet(path string, opt ReadOptions) (rd Reader, err error) {
 		return nil, err
 	}
 	return r, nil
+}
+
+// pqCheckChunks checks that every column chunk named by the footer lies
+// inside the file's data region (after the 4-byte leading magic, before the
+// footer). Arrow v15 checks this only for files from old writers; a chunk
+// that runs past the end of the file makes its page reader walk an endless
+// run of empty page headers, which hangs the read instead of failing it.
+// Inside a bounded chunk every page header takes at least one byte, so the
+// walk ends.
+func pqCheckChunks(path string, md *metadata.FileMetaData, rowGroups int, size int64) error {
+	const magic = 4
+	end := size - int64(md.Size()) - 8 // footer, its 4-byte length and the trailing magic
+	for g := 0; g < rowGroups; g++ {
+		rg := md.RowGroup(g)
+		for c := 0; c < rg.NumColumns(); c++ {
+			col, err := rg.ColumnChunk(c)
+			if err != nil {
+				return &InputError{File: path, Byte: -1, Msg: fmt.Sprintf("row group %d, column chunk %d: unreadable metadata", g, c), Err: err}
+			}
+			start := col.DataPageOffset()
+			if col.HasDictionaryPage() && col.DictionaryPageOffset() > 0 && col.DictionaryPageOffset() < start {
+				start = col.DictionaryPageOffset()
+			}
+			n := col.TotalCompressedSize()
+			if start < magic || n < 0 || n > end || start > end-n || col.NumValues() < 0 {
+				return &InputError{File: path, Byte: -1, Column: strings.Join(col.PathInSchema(), "."),
+					Msg: fmt.Sprintf("row group %d: column chunk at byte %d of length %d (%d values) lies outside the data region [%d, %d)",
+						g, start, n, col.NumValues(), magic, end)}
+			}
+		}
+	}
+	return nil
 }
 
 func (r *pqReader) Schema() *Table { return r.schema }
