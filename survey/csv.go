@@ -21,8 +21,9 @@ package survey
 //
 // Records follow RFC 4180 §2: fields are separated by commas, a field may be
 // enclosed in double quotes and then hold commas, line breaks and doubled
-// quotes (""). Lines end in LF or CRLF (CRLF is read as LF, also inside quoted
-// fields, as encoding/csv does). A quote inside an unquoted field is taken
+// quotes (""). Lines end in LF or CRLF; a line break inside a quoted field is
+// kept byte for byte (CRLF stays CRLF, as the field's content in RFC 4180
+// §2.6), so every string round-trips. A quote inside an unquoted field is taken
 // literally (RFC 4180 §3, interoperability considerations, asks readers to
 // "be liberal in what you accept"; quoted from memory); text after a closing
 // quote, an unclosed quote, and a record longer than 64 MiB are errors.
@@ -59,8 +60,7 @@ package survey
 // with surrounding spaces, commas, quotes or line breaks, and strings
 // starting with `#`. Consequences: a non-null NaN in a Float64 column is
 // written as nan and reads back as null (its value is NaN either way); a
-// Float64 null holds NaN, other kinds hold their zero value under a null; a
-// string holding CRLF reads back with LF.
+// Float64 null holds NaN, other kinds hold their zero value under a null.
 //
 // Kinds without a type comment are inferred from the first csvInferRows
 // (50000) data rows or csvInferBytes (8 MiB) of field text, whichever ends
@@ -802,9 +802,11 @@ func (s *csvScanner) drop() {
 }
 
 // readLine returns the next line without its LF or CRLF (a CR before the end
-// of the file is dropped too); nl reports whether a line break ended it. At
-// the end it returns io.EOF. The line is valid until the next call.
-func (s *csvScanner) readLine() (line []byte, nl bool, err error) {
+// of the file is dropped too); nl reports whether a line break ended it and
+// cr whether a CR was dropped, so a quoted field spanning lines keeps its
+// line break byte for byte (RFC 4180 §2.6). At the end it returns io.EOF.
+// The line is valid until the next call.
+func (s *csvScanner) readLine() (line []byte, nl, cr bool, err error) {
 	line, err = s.br.ReadSlice('\n')
 	if err == bufio.ErrBufferFull {
 		s.long = append(s.long[:0], line...)
@@ -813,7 +815,7 @@ func (s *csvScanner) readLine() (line []byte, nl bool, err error) {
 			s.long = append(s.long, line...)
 		}
 		if err == bufio.ErrBufferFull {
-			return nil, false, &csvSyntaxError{
+			return nil, false, false, &csvSyntaxError{
 				pe:    &csv.ParseError{StartLine: int(s.line + 1), Line: int(s.line + 1), Column: 1, Err: csvErrTooLong},
 				line:  s.line + 1,
 				field: -1,
@@ -825,7 +827,7 @@ func (s *csvScanner) readLine() (line []byte, nl bool, err error) {
 		err = nil
 	}
 	if err != nil {
-		return nil, false, err
+		return nil, false, false, err
 	}
 	s.line++
 	n := len(line)
@@ -834,9 +836,10 @@ func (s *csvScanner) readLine() (line []byte, nl bool, err error) {
 		n--
 	}
 	if n > 0 && line[n-1] == '\r' {
+		cr = true
 		n--
 	}
-	return line[:n], nl, nil
+	return line[:n], nl, cr, nil
 }
 
 // next appends the next record to the buffers, skipping empty lines and
@@ -855,10 +858,10 @@ func (s *csvScanner) next() error {
 // scan appends the next record; see next.
 func (s *csvScanner) scan() error {
 	var line []byte
-	var nl bool
+	var nl, cr bool
 	var err error
 	for {
-		line, nl, err = s.readLine()
+		line, nl, cr, err = s.readLine()
 		if err != nil {
 			return err
 		}
@@ -900,8 +903,11 @@ func (s *csvScanner) scan() error {
 				if !nl || len(s.rec) > csvMaxRecord {
 					return s.unclosed()
 				}
+				if cr {
+					s.rec = append(s.rec, '\r')
+				}
 				s.rec = append(s.rec, '\n')
-				line, nl, err = s.readLine()
+				line, nl, cr, err = s.readLine()
 				if err == io.EOF {
 					return s.unclosed()
 				}
