@@ -361,7 +361,12 @@ func fitsColumns(path string, h *fitsHeader, fields []fitsField) ([]fitsCol, err
 		taken[name] = true
 		return name
 	}
+	unesc := func(s string) string { return s }
+	if c := h.get(fitsEscapeKey); c != nil && !c.isStr && strings.TrimSpace(c.raw) == "T" {
+		unesc = fitsUnescape
+	}
 	for _, fl := range fields {
+		fl.name = unesc(fl.name)
 		if fl.repeat == 0 {
 			continue // a field of width 0 holds no data (FITS 4.0 §7.3.1)
 		}
@@ -369,8 +374,8 @@ func fitsColumns(path string, h *fitsHeader, fields []fitsField) ([]fitsCol, err
 		tmpl := fitsCol{
 			code:  fl.code,
 			field: n,
-			unit:  strings.TrimSpace(h.str(fmt.Sprintf("TUNIT%d", n))),
-			desc:  strings.TrimSpace(h.str(fmt.Sprintf("TCOMM%d", n))),
+			unit:  unesc(strings.TrimSpace(h.str(fmt.Sprintf("TUNIT%d", n)))),
+			desc:  unesc(strings.TrimSpace(h.str(fmt.Sprintf("TCOMM%d", n)))),
 			off:   int(fl.off),
 		}
 		elems := fl.repeat

@@ -421,7 +421,12 @@ var fitsStructural = map[string]bool{
 	"PCOUNT": true, "GCOUNT": true, "TFIELDS": true, "THEAP": true, "EXTNAME": true,
 	"END": true, "CONTINUE": true, "CHECKSUM": true, "DATASUM": true, "GROUPS": true,
 	"ZIMAGE": true, "ZTABLE": true, "HIERARCH": true, "LONGSTRN": true,
+	fitsEscapeKey: true,
 }
+
+// fitsEscapeKey marks a header whose TTYPEn, TUNITn and TCOMMn values hold
+// fitsEscape escapes (written by writeFITS only when some text needed it).
+const fitsEscapeKey = "TXTESC"
 
 // fitsColumnPrefixes are the prefixes of the per-column keywords of a
 // binary table (FITS 4.0 §7.3.2 and Table 26; TCOMM and TUCD are registered

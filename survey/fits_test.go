@@ -225,16 +225,38 @@ func TestFITSRoundTripEdges(t *testing.T) {
 	})
 }
 
-// TestFITSWriteErrors checks that header text outside printable ASCII is refused.
+// TestFITSWriteErrors checks that an EXTNAME outside printable ASCII is
+// refused, and that column text outside it is escaped and restored exactly.
 func TestFITSWriteErrors(t *testing.T) {
-	for _, tab := range []*Table{
-		{Cols: []*Column{{Name: "flux", Kind: Float64, Unit: "µJy", F: []float64{1}}}},
-		{Cols: []*Column{{Name: "new\nline", Kind: Float64, F: []float64{1}}}},
-		{Name: "tab\tname"},
-	} {
-		err := writeFITS(io.Discard, tab)
-		if err == nil || !strings.Contains(err.Error(), "printable ASCII") {
-			t.Errorf("writeFITS(%v) = %v, want a printable-ASCII error", tab.Cols, err)
+	if err := writeFITS(io.Discard, &Table{Name: "tab\tname"}); err == nil || !strings.Contains(err.Error(), "printable ASCII") {
+		t.Errorf("tab in EXTNAME: err = %v, want a printable-ASCII error", err)
+	}
+	tab := &Table{Cols: []*Column{
+		{Name: "flux", Kind: Float64, Unit: "µJy", Desc: "area in deg², 100%", F: []float64{1}},
+		{Name: "new\nline", Kind: Float64, F: []float64{2}},
+		{Name: "plain", Kind: Float64, Unit: "50%", F: []float64{3}},
+	}}
+	path := filepath.Join(t.TempDir(), "esc.fits")
+	if err := Write(path, tab, WriteOptions{}); err != nil {
+		t.Fatal(err)
+	}
+	raw, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i, b := range raw[:2880*2] {
+		if b < 0x20 || b > 0x7e {
+			t.Fatalf("header byte %d is %#x, outside printable ASCII", i, b)
+		}
+	}
+	got, err := Read(path, ReadOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for j, c := range tab.Cols {
+		g := got.Cols[j]
+		if g.Name != c.Name || g.Unit != c.Unit || g.Desc != c.Desc {
+			t.Errorf("column %d read back as %q %q %q, want %q %q %q", j, g.Name, g.Unit, g.Desc, c.Name, c.Unit, c.Desc)
 		}
 	}
 }

@@ -31,9 +31,9 @@ const fitsNullTNULL = math.MinInt64
 // say) makes fitsverify report an error, although astropy and this package
 // read it back unchanged. A Float64 NaN that is not null reads back as null.
 //
-// Column names, units, descriptions and t.Name must be printable ASCII, as
-// FITS headers require; otherwise writeFITS returns an error naming the
-// column. Metadata keys and values may hold any bytes.
+// t.Name must be printable ASCII, as EXTNAME requires. Column names, units
+// and descriptions outside printable ASCII are %XX-escaped (fitsEscape) and
+// the header carries TXTESC = T; metadata keys and values may hold any bytes.
 func writeFITS(w io.Writer, t *Table) error {
 	if err := t.Check(); err != nil {
 		return err
@@ -70,12 +70,16 @@ func writeFITS(w io.Writer, t *Table) error {
 	nrows := t.Len()
 	var eh fitsHeaderWriter
 	var colCards fitsHeaderWriter
+	escaped := false
 	for j, c := range t.Cols {
 		n := j + 1
-		for _, s := range [...]struct{ what, v string }{{"name", c.Name}, {"unit", c.Unit}, {"description", c.Desc}} {
-			if !fitsPrintable(s.v) {
-				return fmt.Errorf("survey: FITS: column %q %s %q is not printable ASCII, as FITS headers require", c.Name, s.what, s.v)
-			}
+		// Header text must be printable ASCII; anything else (a unit "deg²",
+		// a UTF-8 name from a Parquet file) is %XX-escaped and the header
+		// says so with TXTESC, so our reader restores it exactly.
+		cname, cunit, cdesc := c.Name, c.Unit, c.Desc
+		if !fitsPrintable(cname) || !fitsPrintable(cunit) || !fitsPrintable(cdesc) {
+			cname, cunit, cdesc = fitsEscape(cname), fitsEscape(cunit), fitsEscape(cdesc)
+			escaped = true
 		}
 		wc := wcol{c: c, off: rowsz}
 		var form string
@@ -100,16 +104,16 @@ func writeFITS(w io.Writer, t *Table) error {
 		}
 		cols[j] = wc
 		rowsz += wc.width
-		colCards.str(fmt.Sprintf("TTYPE%d", n), c.Name, "")
+		colCards.str(fmt.Sprintf("TTYPE%d", n), cname, "")
 		colCards.str(fmt.Sprintf("TFORM%d", n), form, "")
-		if c.Unit != "" {
-			colCards.str(fmt.Sprintf("TUNIT%d", n), c.Unit, "")
+		if cunit != "" {
+			colCards.str(fmt.Sprintf("TUNIT%d", n), cunit, "")
 		}
 		if wc.hasNull {
 			colCards.int(fmt.Sprintf("TNULL%d", n), wc.tnull, "null value")
 		}
-		if c.Desc != "" {
-			colCards.str(fmt.Sprintf("TCOMM%d", n), c.Desc, "")
+		if cdesc != "" {
+			colCards.str(fmt.Sprintf("TCOMM%d", n), cdesc, "")
 		}
 	}
 	eh.str("XTENSION", "BINTABLE", "binary table extension")
@@ -122,6 +126,9 @@ func writeFITS(w io.Writer, t *Table) error {
 	eh.int("TFIELDS", int64(len(t.Cols)), "columns")
 	var rest fitsHeaderWriter
 	rest.str("EXTNAME", name, "")
+	if escaped {
+		rest.logical(fitsEscapeKey, true, "%XX escapes in TTYPEn, TUNITn, TCOMMn")
+	}
 	if err := fitsWriteMeta(&rest, t.Meta); err != nil {
 		return err
 	}

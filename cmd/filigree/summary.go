@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"encoding/json"
 	"io"
+	"time"
 
 	"github.com/filigree-survey/filigree/survey"
 )
@@ -48,9 +49,18 @@ func (s *Summary) Write(path string) error {
 	cmd, _ := json.Marshal(s.command)
 	buf.Write(cmd)
 	if s.provenance != nil {
-		prov := map[string]string{}
-		for _, kv := range s.provenance.Meta() {
-			prov[kv.Key] = kv.Value
+		p := s.provenance
+		inputs := make([]map[string]any, len(p.Inputs))
+		for i, in := range p.Inputs {
+			inputs[i] = map[string]any{"path": in.Path, "sha256": in.SHA256, "rows": in.Rows}
+		}
+		prov := orderedObject{
+			{"version", p.Version},
+			{"command", p.Command},
+			{"time", p.Time.UTC().Format(time.RFC3339)},
+			{"parameters", keyValueObject(p.Params)},
+			{"cosmology", keyValueObject(p.Cosmology)},
+			{"inputs", inputs},
 		}
 		b, err := json.MarshalIndent(prov, "  ", "  ")
 		if err != nil {
@@ -75,4 +85,39 @@ func (s *Summary) Write(path string) error {
 		_, err := w.Write(buf.Bytes())
 		return err
 	})
+}
+
+// orderedObject is a JSON object whose members keep their order.
+type orderedObject []struct {
+	key   string
+	value any
+}
+
+// MarshalJSON writes the members in order.
+func (o orderedObject) MarshalJSON() ([]byte, error) {
+	var buf bytes.Buffer
+	buf.WriteByte('{')
+	for i, m := range o {
+		if i > 0 {
+			buf.WriteByte(',')
+		}
+		k, _ := json.Marshal(m.key)
+		v, err := json.Marshal(m.value)
+		if err != nil {
+			return nil, err
+		}
+		buf.Write(k)
+		buf.WriteByte(':')
+		buf.Write(v)
+	}
+	buf.WriteByte('}')
+	return buf.Bytes(), nil
+}
+
+func keyValueObject(kvs []survey.KeyValue) orderedObject {
+	o := make(orderedObject, len(kvs))
+	for i, kv := range kvs {
+		o[i].key, o[i].value = kv.Key, kv.Value
+	}
+	return o
 }
