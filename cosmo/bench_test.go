@@ -33,6 +33,25 @@ func BenchmarkComovingDistance1M(b *testing.B) {
 	}
 }
 
+// BenchmarkComovingDistance1MFlat is BenchmarkComovingDistance1M for a flat
+// model without radiation (H0 = 67.66, Ωm = 0.3111), the model that
+// bench/cosmo-vs-astropy.sh gives astropy for a side-by-side comparison.
+func BenchmarkComovingDistance1MFlat(b *testing.B) {
+	p := LambdaCDM(67.66, 0.3111, 0)
+	z := benchRedshifts()
+	d := make([]float64, len(z))
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		m, err := New(p)
+		if err != nil {
+			b.Fatal(err)
+		}
+		if err := m.ComovingDistancesMpch(d, z); err != nil {
+			b.Fatal(err)
+		}
+	}
+}
+
 // BenchmarkComovingDistance1MWarm is BenchmarkComovingDistance1M with the
 // table already built.
 func BenchmarkComovingDistance1MWarm(b *testing.B) {
