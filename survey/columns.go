@@ -2,6 +2,7 @@ package survey
 
 import (
 	"fmt"
+	"io"
 	"math"
 	"strings"
 )
@@ -114,4 +115,87 @@ func degrees(c *Column, radians bool, i int) (float64, bool) {
 		v *= 180 / math.Pi
 	}
 	return v, true
+}
+
+// xyzNames are common Cartesian column triples, in order of preference.
+var xyzNames = [][3]string{
+	{"x", "y", "z"}, {"cart_x", "cart_y", "cart_z"}, {"pos_x", "pos_y", "pos_z"},
+	{"px", "py", "pz"}, {"x_mpch", "y_mpch", "z_mpch"}, {"pos0", "pos1", "pos2"},
+}
+
+// GuessXYZ names the three Cartesian position columns of a table with the
+// given column names: spec "a,b,c" names them (matched case-insensitively),
+// an empty spec tries common triples (x,y,z; cart_x,…; pos_x,…; px,…). The
+// note describes a guess for printing; it is empty when spec named them.
+func GuessXYZ(file string, have []string, spec string) (cols [3]string, note string, err error) {
+	if spec != "" {
+		parts := strings.Split(spec, ",")
+		if len(parts) != 3 {
+			return cols, "", fmt.Errorf("--xyz-cols: expected three comma-separated names, got %q", spec)
+		}
+		idx, err := ResolveColumns(file, have, []string{strings.TrimSpace(parts[0]), strings.TrimSpace(parts[1]), strings.TrimSpace(parts[2])})
+		if err != nil {
+			return cols, "", err
+		}
+		for i, j := range idx {
+			cols[i] = have[j]
+		}
+		return cols, "", nil
+	}
+	for _, cand := range xyzNames {
+		idx, err := ResolveColumns(file, have, cand[:])
+		if err != nil {
+			continue
+		}
+		for i, j := range idx {
+			cols[i] = have[j]
+		}
+		return cols, fmt.Sprintf("guessed position columns: %s, %s, %s", cols[0], cols[1], cols[2]), nil
+	}
+	return cols, "", fmt.Errorf("%s: cannot guess the x, y, z columns; name them with --xyz-cols; columns are %s", file, strings.Join(have, ", "))
+}
+
+// ReadXYZ reads the three named columns of a catalogue into one flat slice
+// (x0, y0, z0, x1, …), streaming. A null or non-finite value is an
+// InputError naming the file, row and column.
+func ReadXYZ(path string, opt ReadOptions, cols [3]string) ([]float64, error) {
+	opt.Columns = cols[:]
+	r, err := Open(path, opt)
+	if err != nil {
+		return nil, err
+	}
+	defer r.Close()
+	for _, c := range r.Schema().Cols {
+		if c.Kind == String || c.Kind == Bool {
+			return nil, &InputError{File: path, Byte: -1, Column: c.Name, Msg: "expected a numeric position column, found " + c.Kind.String()}
+		}
+	}
+	n := r.NumRows()
+	xyz := make([]float64, 0, 3*max(0, min(n, maxPrealloc)))
+	var row int64
+	for {
+		b, err := r.Next(0)
+		if err == io.EOF {
+			return xyz, nil
+		}
+		if err != nil {
+			return nil, err
+		}
+		m := b.Len()
+		for i := 0; i < m; i++ {
+			row++
+			for k := 0; k < 3; k++ {
+				c := b.Cols[k]
+				v, ok := c.Float(i)
+				if !ok || math.IsNaN(v) || math.IsInf(v, 0) {
+					found := c.Format(i)
+					if c.IsNull(i) {
+						found = "a missing value"
+					}
+					return nil, inputErr(path, row, c.Name, "expected a finite position, found "+found, nil)
+				}
+				xyz = append(xyz, v)
+			}
+		}
+	}
 }

@@ -3,6 +3,7 @@ package survey
 import (
 	"errors"
 	"math"
+	"os"
 	"strings"
 	"testing"
 )
@@ -176,5 +177,42 @@ func TestTableSelectAppend(t *testing.T) {
 	}
 	if err := tab.Add(intCol("m", 1)); err == nil {
 		t.Error("short column accepted")
+	}
+}
+
+func TestGuessAndReadXYZ(t *testing.T) {
+	dir := t.TempDir()
+	path := dir + "/pts.csv"
+	if err := os.WriteFile(path, []byte("id,CART_X,cart_y,cart_z\n1,1,2,3\n2,4,5,6\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	have := []string{"id", "CART_X", "cart_y", "cart_z"}
+	cols, note, err := GuessXYZ(path, have, "")
+	if err != nil || cols != [3]string{"CART_X", "cart_y", "cart_z"} || !strings.Contains(note, "guessed") {
+		t.Fatalf("guess: %v %q %v", cols, note, err)
+	}
+	if _, _, err := GuessXYZ(path, have, "a,b"); err == nil {
+		t.Error("two names accepted")
+	}
+	if _, _, err := GuessXYZ(path, []string{"ra", "dec"}, ""); err == nil || !strings.Contains(err.Error(), "--xyz-cols") {
+		t.Errorf("no guess: err = %v", err)
+	}
+	xyz, err := ReadXYZ(path, ReadOptions{}, cols)
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := []float64{1, 2, 3, 4, 5, 6}
+	for i := range want {
+		if xyz[i] != want[i] {
+			t.Fatalf("xyz = %v, want %v", xyz, want)
+		}
+	}
+	if err := os.WriteFile(path, []byte("x,y,z\n1,2,3\n4,,6\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	_, err = ReadXYZ(path, ReadOptions{}, [3]string{"x", "y", "z"})
+	var ie *InputError
+	if !errors.As(err, &ie) || ie.Row != 2 || ie.Column != "y" {
+		t.Errorf("missing value: err = %v", err)
 	}
 }
