@@ -13,6 +13,18 @@ import (
 type Mapping struct {
 	RA, Dec, Z, Weight, ID string
 	Radians                bool
+
+	skyOnly bool // set by GuessSky: no redshift column wanted
+}
+
+// GuessSky is Guess for commands that need only sky positions: the
+// redshift column is neither required nor guessed (an explicit m.Z is kept
+// and checked).
+func GuessSky(t *Table, m Mapping) (Mapping, []string, error) {
+	m.skyOnly = m.Z == ""
+	out, notes, err := Guess(t, m)
+	out.skyOnly = false
+	return out, notes, err
 }
 
 // Common column names, lower case, in order of preference. Matching is
@@ -59,8 +71,10 @@ func Guess(t *Table, m Mapping) (Mapping, []string, error) {
 	if err := pick(&m.Dec, "Dec", decNames, true); err != nil {
 		return m, notes, err
 	}
-	if err := pick(&m.Z, "z (redshift)", zNames, true); err != nil {
-		return m, notes, err
+	if !m.skyOnly {
+		if err := pick(&m.Z, "z (redshift)", zNames, true); err != nil {
+			return m, notes, err
+		}
 	}
 	if err := pick(&m.Weight, "weight", weightNames, false); err != nil {
 		return m, notes, err

@@ -103,7 +103,8 @@ const (
 // duplicate IDs (every occurrence after the first is a problem). With
 // DropBad the bad rows are left out of the Positions and counted; otherwise
 // any bad row gives a *ValidationError listing the count and the first rows.
-// m must name existing columns (see Guess).
+// m must name existing columns (see Guess); with m.Z empty the redshift
+// checks are skipped and Positions.Z holds zeros (sky-only catalogues).
 func Validate(t *Table, m Mapping, opt ValidateOptions) (*Positions, *Report, error) {
 	maxListed := opt.MaxListed
 	if maxListed <= 0 {
@@ -127,9 +128,11 @@ func Validate(t *Table, m Mapping, opt ValidateOptions) (*Positions, *Report, er
 	if err != nil {
 		return nil, nil, err
 	}
-	zc, err := get(m.Z)
-	if err != nil {
-		return nil, nil, err
+	var zc *Column // nil when m.Z is empty: a sky-only catalogue
+	if m.Z != "" {
+		if zc, err = get(m.Z); err != nil {
+			return nil, nil, err
+		}
 	}
 	var wc, idc *Column
 	if m.Weight != "" {
@@ -189,7 +192,10 @@ func Validate(t *Table, m Mapping, opt ValidateOptions) (*Positions, *Report, er
 		rowBad = false
 		a, okA := degrees(ra, m.Radians, i)
 		d, okD := degrees(dec, m.Radians, i)
-		z, okZ := zc.Float(i)
+		z, okZ := 0.0, true
+		if zc != nil {
+			z, okZ = zc.Float(i)
+		}
 		switch {
 		case !okA:
 			add(i, m.RA, "null", msgNull)
@@ -216,6 +222,7 @@ func Validate(t *Table, m Mapping, opt ValidateOptions) (*Positions, *Report, er
 			add(i, m.Dec, formatFloat(d), msgDec)
 		}
 		switch {
+		case zc == nil:
 		case !okZ:
 			add(i, m.Z, "null", msgNull)
 		case !(z > 0) || math.IsInf(z, 0):

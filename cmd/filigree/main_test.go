@@ -4,12 +4,15 @@ import (
 	"bytes"
 	"encoding/csv"
 	"encoding/json"
+	"fmt"
 	"math"
 	"os"
 	"path/filepath"
 	"strconv"
 	"strings"
 	"testing"
+
+	"github.com/filigree-survey/filigree/survey"
 )
 
 func run(t *testing.T, args ...string) (code int, stdout, stderr string) {
@@ -142,5 +145,50 @@ func TestInspectReportsProblems(t *testing.T) {
 		if !strings.Contains(out, want) {
 			t.Errorf("inspect output lacks %q:\n%s", want, out)
 		}
+	}
+}
+
+// A cap of radius θ has area 2π(1 − cos θ) sr (spherical geometry, e.g.
+// Górski et al. 2005 §4); the region file is one cap of 10°.
+func TestFootprintInfoAndApply(t *testing.T) {
+	dir := t.TempDir()
+	reg := filepath.Join(dir, "cap.reg")
+	if err := os.WriteFile(reg, []byte("include cap centre=150,2 radius=10 completeness=0.5\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	code, out, stderr := run(t, "footprint", "info", reg)
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	const deg = math.Pi / 180
+	area := 2 * math.Pi * (1 - math.Cos(10*deg)) / (deg * deg)
+	if !strings.Contains(out, fmt.Sprintf("area:           %.6g deg²", area)) || !strings.Contains(out, fmt.Sprintf("effective area: %.6g deg²", area/2)) {
+		t.Errorf("info output, want area %.6g:\n%s", area, out)
+	}
+	cat := filepath.Join(dir, "g.csv")
+	if err := os.WriteFile(cat, []byte("RA,DEC,mag\n150,2,17\n150,12.5,18\n0,0,19\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	res := filepath.Join(dir, "g_fp.parquet")
+	code, _, stderr = run(t, "footprint", "apply", reg, cat, "-o", res)
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	tab, err := survey.Read(res, survey.ReadOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	c, in := tab.Col("completeness"), tab.Col("in_footprint")
+	if c == nil || in == nil || tab.Col("mag") == nil {
+		t.Fatalf("columns: %v", tab.Cols)
+	}
+	want := []float64{0.5, 0, 0}
+	for i, w := range want {
+		if c.F[i] != w || in.B[i] != (w > 0) {
+			t.Errorf("row %d: completeness %v in %v, want %v", i, c.F[i], in.B[i], w)
+		}
+	}
+	if code, _, _ := run(t, "footprint", "apply", reg, cat); code != exitUsage {
+		t.Errorf("apply without -o: exit %d, want %d", code, exitUsage)
 	}
 }

@@ -1,0 +1,175 @@
+package main
+
+import (
+	"fmt"
+
+	"github.com/spf13/pflag"
+
+	"github.com/filigree-survey/filigree/mask/footprint"
+	"github.com/filigree-survey/filigree/survey"
+)
+
+// fullSkyDeg2 is the whole sky, 4π sr in deg².
+const fullSkyDeg2 = 41252.96124941928
+
+func init() {
+	var (
+		cols columnFlags
+		out  string
+	)
+	register(&command{
+		name:    "footprint",
+		summary: "footprint information, or applying a footprint to a catalogue",
+		usage:   "info FOOTPRINT | apply FOOTPRINT CATALOGUE -o OUT",
+		example: `  # Area, effective area and resolution of a HEALPix completeness map, a MOC or a region file:
+  filigree footprint info completeness.fits
+  filigree footprint info fields.reg
+
+  # Add 'completeness' and 'in_footprint' columns to a catalogue:
+  filigree footprint apply completeness.fits galaxies.parquet -o galaxies_fp.parquet
+
+FOOTPRINT is a HEALPix map in FITS (values: completeness in [0, 1]), an IVOA
+MOC in FITS, or a region file (see the README for the region format).`,
+		flags: func(a *app, fs *pflag.FlagSet) {
+			cols.register(fs)
+			fs.StringVarP(&out, "output", "o", "", "output catalogue (apply)")
+		},
+		run: func(a *app, fs *pflag.FlagSet, args []string) error {
+			if len(args) == 0 {
+				return usagef("footprint needs an action: info or apply")
+			}
+			switch args[0] {
+			case "info":
+				if len(args) != 2 {
+					return usagef("footprint info takes one footprint file")
+				}
+				return footprintInfo(a, fs, args[1])
+			case "apply":
+				if len(args) != 3 {
+					return usagef("footprint apply takes a footprint file and a catalogue")
+				}
+				if out == "" {
+					return usagef("footprint apply needs -o OUT")
+				}
+				return footprintApply(a, fs, &cols, args[1], args[2], out)
+			}
+			return usagef("unknown footprint action %q; expected info or apply", args[0])
+		},
+	})
+}
+
+func footprintInfo(a *app, fs *pflag.FlagSet, path string) error {
+	a.progress.Start("reading "+path, 0)
+	f, err := footprint.Open(path)
+	if err != nil {
+		return err
+	}
+	area, eff, res := f.Area(), f.EffectiveArea(), f.Resolution()
+	a.progress.Finish()
+	w := a.stdout
+	fmt.Fprintf(w, "footprint:      %s\n", path)
+	fmt.Fprintf(w, "kind:           %s\n", f.Describe())
+	fmt.Fprintf(w, "area:           %.6g deg² (completeness > 0)\n", area)
+	fmt.Fprintf(w, "effective area: %.6g deg² (completeness-weighted)\n", eff)
+	fmt.Fprintf(w, "coverage:       %.6g of the sky\n", area/fullSkyDeg2)
+	if res > 0 {
+		fmt.Fprintf(w, "resolution:     %.6g deg\n", res)
+	} else {
+		fmt.Fprintf(w, "resolution:     exact shapes\n")
+	}
+	prov := a.newProvenance(fs)
+	if err := prov.AddInput(path, -1); err != nil {
+		return err
+	}
+	a.summary.SetProvenance(prov)
+	a.summary.Set("footprint", path)
+	a.summary.Set("kind", f.Describe())
+	a.summary.Set("area_deg2", area)
+	a.summary.Set("effective_area_deg2", eff)
+	a.summary.Set("coverage_fraction", area/fullSkyDeg2)
+	a.summary.Set("resolution_deg", res)
+	return nil
+}
+
+func footprintApply(a *app, fs *pflag.FlagSet, cols *columnFlags, fpPath, catPath, out string) error {
+	f, err := footprint.Open(fpPath)
+	if err != nil {
+		return err
+	}
+	a.progress.Start("reading "+catPath, 0)
+	t, err := survey.Read(catPath, survey.ReadOptions{HDU: cols.hdu})
+	if err != nil {
+		return err
+	}
+	m, notes, err := survey.GuessSky(t, cols.mapping())
+	if err != nil {
+		return fmt.Errorf("%s: %w", catPath, err)
+	}
+	for _, n := range notes {
+		a.note("%s", n)
+	}
+	m.Z, m.Weight, m.ID = "", "", "" // only the sky position matters here
+	pos, rep, err := survey.Validate(t, m, cols.validateOptions(catPath))
+	if err != nil {
+		return err
+	}
+	if rep.Dropped > 0 {
+		a.note("dropped %d bad rows", rep.Dropped)
+		t = t.Select(pos.Row)
+	}
+	if rep.Wrapped > 0 {
+		a.note("%d RA values outside [0, 360) wrapped", rep.Wrapped)
+	}
+	n := pos.Len()
+	comp := survey.NewColumn("completeness", survey.Float64, n)
+	comp.F = comp.F[:n]
+	comp.Desc = "footprint completeness at the galaxy's position, 0 outside"
+	footprint.CompletenessMany(f, comp.F, pos.RA, pos.Dec)
+	in := survey.NewColumn("in_footprint", survey.Bool, n)
+	inside := 0
+	for _, c := range comp.F {
+		in.B = append(in.B, c > 0)
+		if c > 0 {
+			inside++
+		}
+	}
+	in.Desc = "completeness > 0"
+	for _, c := range []*survey.Column{comp, in} {
+		if old := t.Col(c.Name); old != nil {
+			return fmt.Errorf("%s: already has a column %q; rename it first", catPath, c.Name)
+		}
+		if err := t.Add(c); err != nil {
+			return err
+		}
+	}
+	prov := a.newProvenance(fs)
+	if err := prov.AddInput(fpPath, -1); err != nil {
+		return err
+	}
+	if err := prov.AddInput(catPath, int64(rep.Rows)); err != nil {
+		return err
+	}
+	t.Meta = mergeMeta(t.Meta, prov.Meta())
+	if err := survey.Write(out, t, survey.WriteOptions{}); err != nil {
+		return err
+	}
+	a.note("%d of %d galaxies inside the footprint; wrote %s", inside, n, out)
+	a.summary.SetProvenance(prov)
+	a.summary.Set("rows", n)
+	a.summary.Set("in_footprint", inside)
+	a.summary.Set("dropped", rep.Dropped)
+	return nil
+}
+
+// mergeMeta keeps the input's own metadata, except an earlier run's
+// provenance, and appends this run's.
+func mergeMeta(in, prov survey.Meta) survey.Meta {
+	var out survey.Meta
+	for _, kv := range in {
+		if len(kv.Key) >= 9 && kv.Key[:9] == "filigree." {
+			continue
+		}
+		out = append(out, kv)
+	}
+	return append(out, prov...)
+}
