@@ -1,0 +1,44 @@
+// Package laguerre computes the Laguerre (power) cells of weighted points in
+// a 3D box, clipped to the box or on a 3-torus, as needed by semi-discrete
+// optimal transport (Lévy 2015; Kitagawa, Mérigot & Thibert 2019): for every
+// point the cell volume and centroid, and every neighbour with the area of
+// the shared facet.
+//
+// The cell of point i with weight ψ_i is
+//
+//	{x in box : |x−p_i|² − ψ_i ≤ |x−p_j|² − ψ_j for all j},
+//
+// bounded by the power bisectors 2(p_j−p_i)·x ≤ |p_j|²−|p_i|² − ψ_j + ψ_i
+// (Aurenhammer 1987). With equal weights the cells are the Voronoi cells.
+//
+// # Method
+//
+// Cells are built one at a time by clipping (the approach of Voro++,
+// Rycroft 2009): start from the box (in periodic mode from the cube of side
+// Hi−Lo centred on the point, whose walls are the bisectors with the
+// point's own images), and cut it by the bisectors of the other points,
+// visiting grid cells in order of a lower bound on their distance and, within
+// a ring of equal bound, cutting by planes in order of increasing distance.
+// A point at distance d lies on a bisector at distance (d² + ψ_i − ψ_j)/(2d)
+// from p_i; with ψ_j ≤ ψ_max this is at least lowerPlane(d), so the search
+// stops once that bound reaches the largest vertex distance of the current
+// cell. Cells are independent, so they are computed in parallel and the
+// result does not depend on the number of threads.
+//
+// # Tolerance
+//
+// A vertex within epsRel·s = 1e-11·s of a cutting plane, s = (box volume /
+// n)^(1/3) the mean spacing, counts as lying on the plane: it is kept and
+// not moved, and a plane that only touches the cell creates no facet. This
+// makes exactly degenerate inputs (a cubic lattice, where eight cells meet at
+// every vertex) give clean cells. Facets with area below 1e-9·s² are not
+// reported. Volume and centroid come from tetrahedra between the vertex
+// mean and a fan of each face, so they do not depend on face orientation.
+//
+// # Empty cells
+//
+// A point can have an empty cell (its weight is too small compared with its
+// neighbours'); it gets volume 0, no neighbours, and is counted in
+// Cells.Empty. Such a point need not lie in its cell even when the cell is
+// not empty.
+package laguerre

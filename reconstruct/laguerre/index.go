@@ -1,0 +1,220 @@
+package laguerre
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"sort"
+)
+
+// Options sets the domain and the parallelism of a Laguerre computation.
+type Options struct {
+	// Lo and Hi are the lower and upper corners of the axis-aligned box,
+	// in the units of the coordinates (Mpc/h in filigree). Hi must exceed
+	// Lo on every axis.
+	Lo, Hi [3]float64
+
+	// Periodic makes the box a 3-torus: cells are computed with the
+	// periodic images of the points and neighbours are reported by their
+	// original index. Otherwise cells are clipped to the box.
+	Periodic bool
+
+	// Threads is the number of goroutines computing cells; 0 or less means
+	// runtime.GOMAXPROCS(0). Results do not depend on it.
+	Threads int
+}
+
+// gridDensity is the mean number of points per grid cell of an Index. About
+// two keeps the candidate scan short while the offset order stays fine
+// enough that near neighbours are clipped first.
+const gridDensity = 2.0
+
+// epsRel is the clipping tolerance relative to the mean point spacing s =
+// (box volume / n)^(1/3): a vertex closer than epsRel·s to a cutting plane
+// counts as lying on it (see poly.clip).
+const epsRel = 1e-11
+
+// areaRel is the smallest facet area reported, relative to s². Smaller
+// facets are artefacts of the tolerance epsRel (a plane that just shaves a
+// vertex by more than epsRel·s on one side but not on the other) and are
+// dropped so that neighbour lists stay symmetric.
+const areaRel = 1e-9
+
+// offChunk is the Chebyshev radius (in grid cells) of the precomputed,
+// distance-sorted neighbour-cell offsets; farther shells are scanned lazily.
+const offChunk = 4
+
+// Index is a uniform grid over a fixed set of points, built once and reused
+// while the weights change (as in a transport solver's Newton iterations).
+// An Index is read-only after NewIndex and may be shared by concurrent
+// calls to Compute that write to different Cells.
+type Index struct {
+	opt   Options
+	n     int
+	lo    [3]float64 // box lower corner
+	ext   [3]float64 // box extent Hi − Lo
+	dims  [3]int     // grid cells per axis
+	g     [3]float64 // grid cell size per axis
+	gmin  float64    // smallest grid cell size
+	start []int32    // first sorted position of each grid cell, len ncell+1
+	xyz   []float64  // points sorted by grid cell (wrapped into the box if periodic), 3 per point
+	order []int32    // sorted position → original index
+	scale float64    // mean spacing (box volume / n)^(1/3)
+	offs  []gridOff  // neighbour-cell offsets sorted by lower distance bound
+}
+
+// gridOff is a neighbour-cell offset and a lower bound on the distance from
+// any point of the centre cell to any point of the offset cell.
+type gridOff struct {
+	o  [3]int32
+	b  float64
+	c2 float64 // squared distance between the cell centres
+}
+
+// NewIndex builds the grid for the points xyz (x, y, z of point k at
+// 3k..3k+2). In clipped mode every point must lie in [Lo, Hi]; in periodic
+// mode points are wrapped into [Lo, Hi). Coordinates must be finite and
+// there must be fewer than 2^31 points.
+func NewIndex(xyz []float64, opt Options) (*Index, error) {
+	if len(xyz)%3 != 0 {
+		return nil, fmt.Errorf("laguerre: coordinate slice has length %d, not a multiple of 3", len(xyz))
+	}
+	n := len(xyz) / 3
+	if n > math.MaxInt32 {
+		return nil, fmt.Errorf("laguerre: %d points, at most %d supported", n, math.MaxInt32)
+	}
+	ix := &Index{opt: opt, n: n}
+	vol := 1.0
+	for k := 0; k < 3; k++ {
+		lo, hi := opt.Lo[k], opt.Hi[k]
+		if !(hi > lo) || math.IsInf(lo, 0) || math.IsInf(hi, 0) {
+			return nil, fmt.Errorf("laguerre: box axis %d is [%g, %g], want finite Lo < Hi", k, lo, hi)
+		}
+		ix.lo[k], ix.ext[k] = lo, hi-lo
+		vol *= hi - lo
+	}
+	if n == 0 {
+		return ix, nil
+	}
+	ix.scale = math.Cbrt(vol / float64(n))
+	h := math.Cbrt(vol * gridDensity / float64(n))
+	ncell := 1
+	for k := 0; k < 3; k++ {
+		d := int(ix.ext[k] / h)
+		if d < 1 {
+			d = 1
+		}
+		if d > 1<<20 {
+			d = 1 << 20
+		}
+		ix.dims[k] = d
+		ix.g[k] = ix.ext[k] / float64(d)
+		ncell *= d
+	}
+	ix.gmin = math.Min(ix.g[0], math.Min(ix.g[1], ix.g[2]))
+
+	// counting sort of the points by grid cell
+	pts := make([]float64, 3*n)
+	cellOf := make([]int32, n)
+	ix.start = make([]int32, ncell+1)
+	for i := 0; i < n; i++ {
+		var c [3]int
+		for k := 0; k < 3; k++ {
+			x := xyz[3*i+k]
+			if math.IsNaN(x) || math.IsInf(x, 0) {
+				return nil, fmt.Errorf("laguerre: point %d coordinate %d is %g, want a finite number", i, k, x)
+			}
+			if opt.Periodic {
+				x = ix.lo[k] + math.Mod(x-ix.lo[k], ix.ext[k])
+				if x < ix.lo[k] {
+					x += ix.ext[k]
+				}
+				if x >= opt.Hi[k] {
+					x = ix.lo[k]
+				}
+			} else if x < opt.Lo[k] || x > opt.Hi[k] {
+				return nil, fmt.Errorf("laguerre: point %d coordinate %d is %g, outside the box [%g, %g]", i, k, x, opt.Lo[k], opt.Hi[k])
+			}
+			pts[3*i+k] = x
+			c[k] = ix.cellCoord(x, k)
+		}
+		cellOf[i] = int32((c[2]*ix.dims[1]+c[1])*ix.dims[0] + c[0])
+		ix.start[cellOf[i]+1]++
+	}
+	for c := 0; c < ncell; c++ {
+		ix.start[c+1] += ix.start[c]
+	}
+	ix.xyz = make([]float64, 3*n)
+	ix.order = make([]int32, n)
+	fill := make([]int32, ncell)
+	copy(fill, ix.start[:ncell])
+	for i := 0; i < n; i++ {
+		q := fill[cellOf[i]]
+		fill[cellOf[i]]++
+		ix.order[q] = int32(i)
+		copy(ix.xyz[3*q:3*q+3], pts[3*i:3*i+3])
+	}
+
+	// neighbour-cell offsets within Chebyshev radius offChunk, sorted by the
+	// lower bound on the point distance, then by centre distance so that the
+	// nearest cells come first among equal bounds.
+	r := offChunk
+	for o2 := -r; o2 <= r; o2++ {
+		for o1 := -r; o1 <= r; o1++ {
+			for o0 := -r; o0 <= r; o0++ {
+				o := [3]int32{int32(o0), int32(o1), int32(o2)}
+				ix.offs = append(ix.offs, gridOff{o: o, b: ix.offBound(o), c2: centreDist2(o, ix.g)})
+			}
+		}
+	}
+	sort.SliceStable(ix.offs, func(a, b int) bool {
+		oa, ob := ix.offs[a], ix.offs[b]
+		if oa.b != ob.b {
+			return oa.b < ob.b
+		}
+		return oa.c2 < ob.c2
+	})
+	return ix, nil
+}
+
+// Len returns the number of points in ix.
+func (ix *Index) Len() int { return ix.n }
+
+func centreDist2(o [3]int32, g [3]float64) float64 {
+	s := 0.0
+	for k := 0; k < 3; k++ {
+		d := float64(o[k]) * g[k]
+		s += d * d
+	}
+	return s
+}
+
+// offBound is a lower bound on the distance between a point in cell c and a
+// point in cell c+o: along axis k at least (|o_k| − 1) whole cells lie between.
+func (ix *Index) offBound(o [3]int32) float64 {
+	s := 0.0
+	for k := 0; k < 3; k++ {
+		a := o[k]
+		if a < 0 {
+			a = -a
+		}
+		if a > 1 {
+			d := float64(a-1) * ix.g[k]
+			s += d * d
+		}
+	}
+	return math.Sqrt(s)
+}
+
+func (ix *Index) cellCoord(x float64, k int) int {
+	c := int((x - ix.lo[k]) / ix.g[k])
+	if c < 0 {
+		c = 0
+	}
+	if c >= ix.dims[k] {
+		c = ix.dims[k] - 1
+	}
+	return c
+}
+
+var errNoIndex = errors.New("laguerre: nil Index")
