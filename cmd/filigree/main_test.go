@@ -192,3 +192,70 @@ func TestFootprintInfoAndApply(t *testing.T) {
 		t.Errorf("apply without -o: exit %d, want %d", code, exitUsage)
 	}
 }
+
+// The tetrahedra of a Delaunay tessellation tile the convex hull (its
+// definition), so for the corners and centre of a unit cube — a degenerate,
+// co-spherical input — the written tetrahedra's volumes sum to 1.
+func TestTessellateCube(t *testing.T) {
+	dir := t.TempDir()
+	pts := filepath.Join(dir, "cube.csv")
+	var b strings.Builder
+	b.WriteString("px,py,pz\n")
+	var xyz [][3]float64
+	for i := 0; i < 8; i++ {
+		p := [3]float64{float64(i & 1), float64(i >> 1 & 1), float64(i >> 2 & 1)}
+		xyz = append(xyz, p)
+	}
+	xyz = append(xyz, [3]float64{0.5, 0.5, 0.5}, [3]float64{0.5, 0.5, 0.5}) // an exact duplicate
+	for _, p := range xyz {
+		fmt.Fprintf(&b, "%g,%g,%g\n", p[0], p[1], p[2])
+	}
+	if err := os.WriteFile(pts, []byte(b.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(dir, "tets.csv")
+	sum := filepath.Join(dir, "s.json")
+	code, _, stderr := run(t, "tessellate", pts, "--xyz-cols", "px,py,pz", "-o", out, "--summary", sum)
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	tab, err := survey.Read(out, survey.ReadOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	vol := 0.0
+	for j := 0; j < tab.Len(); j++ {
+		var v [4][3]float64
+		for k := 0; k < 4; k++ {
+			v[k] = xyz[tab.Cols[k].I[j]]
+		}
+		a := [3]float64{v[1][0] - v[0][0], v[1][1] - v[0][1], v[1][2] - v[0][2]}
+		bb := [3]float64{v[2][0] - v[0][0], v[2][1] - v[0][1], v[2][2] - v[0][2]}
+		c := [3]float64{v[3][0] - v[0][0], v[3][1] - v[0][1], v[3][2] - v[0][2]}
+		det := a[0]*(bb[1]*c[2]-bb[2]*c[1]) - a[1]*(bb[0]*c[2]-bb[2]*c[0]) + a[2]*(bb[0]*c[1]-bb[1]*c[0])
+		vol += math.Abs(det) / 6
+	}
+	if math.Abs(vol-1) > 1e-12 {
+		t.Errorf("tetrahedra volumes sum to %v, want 1", vol)
+	}
+	js, _ := os.ReadFile(sum)
+	var s map[string]any
+	if err := json.Unmarshal(js, &s); err != nil {
+		t.Fatal(err)
+	}
+	for _, k := range []string{"points", "tetrahedra", "seconds", "peak_bytes"} {
+		if _, ok := s[k]; !ok {
+			t.Errorf("summary lacks %q: %s", k, js)
+		}
+	}
+	if s["duplicates_merged"] != 1.0 || int(s["tetrahedra"].(float64)) != tab.Len() {
+		t.Errorf("summary: %s", js)
+	}
+	// Coplanar input is a clear error.
+	if err := os.WriteFile(pts, []byte("x,y,z\n0,0,0\n1,0,0\n0,1,0\n1,1,0\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if code, _, stderr := run(t, "tessellate", pts); code != exitFail || !strings.Contains(stderr, "coplanar") {
+		t.Errorf("coplanar: exit %d, %s", code, stderr)
+	}
+}
