@@ -259,3 +259,52 @@ func TestTessellateCube(t *testing.T) {
 		t.Errorf("coplanar: exit %d, %s", code, stderr)
 	}
 }
+
+// Randoms in a cap footprint stay inside it (cap of 5°: angular separation
+// from the centre ≤ 5°), follow the n(z) table's range, and repeat with
+// the same seed.
+func TestRandomsCommand(t *testing.T) {
+	dir := t.TempDir()
+	reg := filepath.Join(dir, "cap.reg")
+	nz := filepath.Join(dir, "nz.csv")
+	if err := os.WriteFile(reg, []byte("include cap centre=30,-20 radius=5\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(nz, []byte("zmid,count\n0.1,10\n0.2,30\n0.3,20\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	read := func(path string) *survey.Table {
+		tab, err := survey.Read(path, survey.ReadOptions{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		return tab
+	}
+	var tabs []*survey.Table
+	for i := 0; i < 2; i++ {
+		out := filepath.Join(dir, fmt.Sprintf("r%d.csv", i))
+		code, _, stderr := run(t, "randoms", reg, "--nz", nz, "-n", "2000", "--seed", "3", "-o", out)
+		if code != exitOK {
+			t.Fatalf("exit %d: %s", code, stderr)
+		}
+		tabs = append(tabs, read(out))
+	}
+	const deg = math.Pi / 180
+	ra, dec, z := tabs[0].Col("ra").F, tabs[0].Col("dec").F, tabs[0].Col("z").F
+	for i := range ra {
+		cs := math.Sin(dec[i]*deg)*math.Sin(-20*deg) + math.Cos(dec[i]*deg)*math.Cos(-20*deg)*math.Cos((ra[i]-30)*deg)
+		if math.Acos(math.Min(1, cs)) > 5*deg+1e-9 {
+			t.Fatalf("random %d at (%v, %v) outside the cap", i, ra[i], dec[i])
+		}
+		// Bin edges halfway between centres: [0.05, 0.35].
+		if z[i] < 0.05-1e-9 || z[i] > 0.35+1e-9 {
+			t.Fatalf("random %d has z = %v outside the n(z) table's bins", i, z[i])
+		}
+		if tabs[1].Col("ra").F[i] != ra[i] || tabs[1].Col("z").F[i] != z[i] {
+			t.Fatalf("same seed, different random %d", i)
+		}
+	}
+	if code, _, _ := run(t, "randoms", reg, "-n", "10", "-o", filepath.Join(dir, "x.csv")); code != exitUsage {
+		t.Errorf("no n(z): exit %d, want %d", code, exitUsage)
+	}
+}
