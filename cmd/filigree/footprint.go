@@ -2,10 +2,13 @@ package main
 
 import (
 	"fmt"
+	"math"
 
 	"github.com/spf13/pflag"
 
+	"github.com/filigree-survey/filigree/mask/edge"
 	"github.com/filigree-survey/filigree/mask/footprint"
+	"github.com/filigree-survey/filigree/mask/selection"
 	"github.com/filigree-survey/filigree/survey"
 )
 
@@ -14,8 +17,11 @@ const fullSkyDeg2 = 41252.96124941928
 
 func init() {
 	var (
-		cols columnFlags
-		out  string
+		cols    columnFlags
+		out     string
+		weights bool
+		cf      cosmoFlags
+		nzf     nzFlags
 	)
 	register(&command{
 		name:    "footprint",
@@ -33,6 +39,9 @@ MOC in FITS, or a region file (see the README for the region format).`,
 		flags: func(a *app, fs *pflag.FlagSet) {
 			cols.register(fs)
 			fs.StringVarP(&out, "output", "o", "", "output catalogue (apply)")
+			fs.BoolVar(&weights, "weights", false, "apply: also add comov_dist, weight (1/(completeness × n̄)) and edge_dist; n(z) from --nz, --like, or this catalogue")
+			nzf.register(fs)
+			cf.register(fs)
 		},
 		run: func(a *app, fs *pflag.FlagSet, args []string) error {
 			if len(args) == 0 {
@@ -51,7 +60,11 @@ MOC in FITS, or a region file (see the README for the region format).`,
 				if out == "" {
 					return usagef("footprint apply needs -o OUT")
 				}
-				return footprintApply(a, fs, &cols, args[1], args[2], out)
+				var wo *weightOptions
+				if weights {
+					wo = &weightOptions{cf: &cf, nz: &nzf}
+				}
+				return footprintApply(a, fs, &cols, wo, args[1], args[2], out)
 			}
 			return usagef("unknown footprint action %q; expected info or apply", args[0])
 		},
@@ -91,7 +104,13 @@ func footprintInfo(a *app, fs *pflag.FlagSet, path string) error {
 	return nil
 }
 
-func footprintApply(a *app, fs *pflag.FlagSet, cols *columnFlags, fpPath, catPath, out string) error {
+// weightOptions ask footprint apply for distances, mass weights and edge distances.
+type weightOptions struct {
+	cf *cosmoFlags
+	nz *nzFlags
+}
+
+func footprintApply(a *app, fs *pflag.FlagSet, cols *columnFlags, wo *weightOptions, fpPath, catPath, out string) error {
 	f, err := footprint.Open(fpPath)
 	if err != nil {
 		return err
@@ -101,14 +120,21 @@ func footprintApply(a *app, fs *pflag.FlagSet, cols *columnFlags, fpPath, catPat
 	if err != nil {
 		return err
 	}
-	m, notes, err := survey.GuessSky(t, cols.mapping())
+	guess := survey.GuessSky
+	if wo != nil {
+		guess = survey.Guess // distances need the redshift
+	}
+	m, notes, err := guess(t, cols.mapping())
 	if err != nil {
 		return fmt.Errorf("%s: %w", catPath, err)
 	}
 	for _, n := range notes {
 		a.note("%s", n)
 	}
-	m.Z, m.Weight, m.ID = "", "", "" // only the sky position matters here
+	m.ID = "" // duplicates do not matter here
+	if wo == nil {
+		m.Z, m.Weight = "", "" // only the sky position matters
+	}
 	pos, rep, err := survey.Validate(t, m, cols.validateOptions(catPath))
 	if err != nil {
 		return err
@@ -149,6 +175,11 @@ func footprintApply(a *app, fs *pflag.FlagSet, cols *columnFlags, fpPath, catPat
 	if err := prov.AddInput(catPath, int64(rep.Rows)); err != nil {
 		return err
 	}
+	if wo != nil {
+		if err := addWeights(a, t, pos, comp.F, f, wo, prov); err != nil {
+			return err
+		}
+	}
 	t.Meta = mergeMeta(t.Meta, prov.Meta())
 	if err := survey.Write(out, t, survey.WriteOptions{}); err != nil {
 		return err
@@ -172,4 +203,85 @@ func mergeMeta(in, prov survey.Meta) survey.Meta {
 		out = append(out, kv)
 	}
 	return append(out, prov...)
+}
+
+// addWeights adds comov_dist, weight and edge_dist to t (whose rows are
+// pos): the mass weight 1/(completeness × n̄(z)) × the user weight, with
+// n̄ from the n(z) options or estimated from the galaxies inside the
+// footprint, and the distance to the nearest boundary of the surveyed
+// volume (footprint edges and holes, and the n(z) range's radial limits).
+func addWeights(a *app, t *survey.Table, pos *survey.Positions, comp []float64, f footprint.Footprint, wo *weightOptions, prov *survey.Provenance) error {
+	m, err := wo.cf.model()
+	if err != nil {
+		return err
+	}
+	addCosmology(prov, m)
+	n := pos.Len()
+	sr := f.EffectiveArea() * (math.Pi / 180) * (math.Pi / 180)
+	if !(sr > 0) {
+		return fmt.Errorf("footprint has no area; no weights")
+	}
+	var nbar *selection.NBar
+	if wo.nz.table != "" || wo.nz.like != "" {
+		if nbar, err = wo.nz.nbar(a, &columnFlags{}, m, sr, prov); err != nil {
+			return err
+		}
+	} else {
+		var zin []float64
+		for i, c := range comp {
+			if c > 0 {
+				zin = append(zin, pos.Z[i])
+			}
+		}
+		nz, err := selection.EstimateNZ(zin, selection.EstimateOptions{Width: wo.nz.width, Smooth: wo.nz.smooth})
+		if err != nil {
+			return fmt.Errorf("n(z) of the galaxies inside the footprint: %w", err)
+		}
+		for _, kv := range nz.Binning.KeyValues() {
+			prov.Params = append(prov.Params, survey.KeyValue{Key: kv[0], Value: kv[1]})
+		}
+		a.note("n(z) from the %d galaxies inside the footprint: %d bins of width %.4g, smoothing σ = %.4g (%s)", len(zin), len(nz.Counts), nz.Binning.Width, nz.Binning.Smooth, nz.Binning.WidthRule)
+		if nbar, err = selection.NewNBar(nz, m, sr); err != nil {
+			return err
+		}
+	}
+	dist := survey.NewColumn("comov_dist", survey.Float64, n)
+	dist.F, dist.Unit, dist.Desc = make([]float64, n), "Mpc/h", "line-of-sight comoving distance"
+	if err := m.ComovingDistancesMpch(dist.F, pos.Z); err != nil {
+		return err
+	}
+	w := survey.NewColumn("weight", survey.Float64, n)
+	w.F, w.Unit, w.Desc = make([]float64, n), "(Mpc/h)^3", "mass weight: comoving volume per galaxy, 1/(completeness × n̄(z)) × user weight"
+	werr := selection.Weights(w.F, pos.Z, comp, pos.Weight, nbar)
+	noWeight := 0
+	for i, v := range w.F {
+		if math.IsNaN(v) {
+			w.SetNull(i)
+			noWeight++
+		}
+	}
+	if werr != nil {
+		a.note("%d galaxies have no weight (outside the footprint or the n(z) range); first: %v", noWeight, werr)
+	}
+	rmin, rmax := nbar.DistEdges[0], nbar.DistEdges[len(nbar.DistEdges)-1]
+	vol, err := edge.NewVolume(f, rmin, rmax, 0)
+	if err != nil {
+		return err
+	}
+	ed := survey.NewColumn("edge_dist", survey.Float64, n)
+	ed.F, ed.Unit, ed.Desc = make([]float64, n), "Mpc/h", "distance to the nearest boundary of the surveyed volume (0 outside)"
+	vol.Distances(ed.F, pos.RA, pos.Dec, dist.F)
+	a.note("edge_dist: radial limits %.1f–%.1f Mpc/h from the n(z) range; error at most %.2f Mpc/h at %.0f Mpc/h", rmin, rmax, vol.ErrorBound(rmax), rmax)
+	for _, c := range []*survey.Column{dist, w, ed} {
+		if t.Col(c.Name) != nil {
+			return fmt.Errorf("the catalogue already has a column %q; rename it first", c.Name)
+		}
+		if err := t.Add(c); err != nil {
+			return err
+		}
+	}
+	prov.Params = append(prov.Params, survey.KeyValue{Key: "edge.error_at_rmax_mpch", Value: fmt.Sprint(vol.ErrorBound(rmax))})
+	a.summary.Set("weights_missing", noWeight)
+	a.summary.Set("survey_volume_mpch3", nbar.TotalVolume())
+	return nil
 }

@@ -308,3 +308,53 @@ func TestRandomsCommand(t *testing.T) {
 		t.Errorf("no n(z): exit %d, want %d", code, exitUsage)
 	}
 }
+
+// Mass weights w = 1/(c n̄) make the weighted density 1 over the geometric
+// footprint (mask/selection.Weights): for randoms following the footprint
+// and n(z), Σw equals the survey's comoving volume over the footprint's
+// area, V_eff × A/A_eff, within the Poisson error of the sample (≈ 1/√N).
+func TestFootprintApplyWeights(t *testing.T) {
+	dir := t.TempDir()
+	reg := filepath.Join(dir, "two.reg")
+	nz := filepath.Join(dir, "nz.csv")
+	if err := os.WriteFile(reg, []byte("include cap centre=30,-20 radius=6 completeness=0.5\ninclude box ra=100,110 dec=0,8\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(nz, []byte("zmid,count\n0.1,10\n0.2,30\n0.3,20\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	r := filepath.Join(dir, "r.csv")
+	if code, _, stderr := run(t, "randoms", reg, "--nz", nz, "-n", "40000", "-o", r); code != exitOK {
+		t.Fatalf("randoms: exit %d: %s", code, stderr)
+	}
+	out := filepath.Join(dir, "rw.csv")
+	sum := filepath.Join(dir, "s.json")
+	if code, _, stderr := run(t, "footprint", "apply", reg, r, "-o", out, "--weights", "--summary", sum); code != exitOK {
+		t.Fatalf("apply: exit %d: %s", code, stderr)
+	}
+	js, _ := os.ReadFile(sum)
+	var s map[string]any
+	if err := json.Unmarshal(js, &s); err != nil {
+		t.Fatal(err)
+	}
+	tab, err := survey.Read(out, survey.ReadOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	total := 0.0
+	for _, w := range tab.Col("weight").F {
+		total += w
+	}
+	const deg = math.Pi / 180
+	capA := 2 * math.Pi * (1 - math.Cos(6*deg))
+	boxA := 10 * deg * math.Sin(8*deg)
+	want := s["survey_volume_mpch3"].(float64) * (capA + boxA) / (0.5*capA + boxA)
+	if rel := math.Abs(total/want - 1); rel > 0.02 {
+		t.Errorf("Σw = %.5g, want %.5g (rel. diff %.3g)", total, want, rel)
+	}
+	for i, e := range tab.Col("edge_dist").F {
+		if !(e >= 0) {
+			t.Fatalf("row %d: edge_dist %v", i, e)
+		}
+	}
+}
