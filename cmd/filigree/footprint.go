@@ -22,6 +22,7 @@ func init() {
 		weights bool
 		cf      cosmoFlags
 		nzf     nzFlags
+		comb    combineFlags
 	)
 	register(&command{
 		name:    "footprint",
@@ -30,6 +31,9 @@ func init() {
 		example: `  # Area, effective area and resolution of a HEALPix completeness map, a MOC or a region file:
   filigree footprint info completeness.fits
   filigree footprint info fields.reg
+
+  # A survey mask minus a bright-star mask, intersected with a MOC:
+  filigree footprint info survey_map.fits --minus stars.reg --and coverage_moc.fits
 
   # Add 'completeness' and 'in_footprint' columns to a catalogue:
   filigree footprint apply completeness.fits galaxies.parquet -o galaxies_fp.parquet
@@ -40,6 +44,7 @@ MOC in FITS, or a region file (see the README for the region format).`,
 			cols.register(fs)
 			fs.StringVarP(&out, "output", "o", "", "output catalogue (apply)")
 			fs.BoolVar(&weights, "weights", false, "apply: also add comov_dist, weight (1/(completeness × n̄)) and edge_dist; n(z) from --nz, --like, or this catalogue")
+			comb.register(fs)
 			nzf.register(fs)
 			cf.register(fs)
 		},
@@ -52,7 +57,7 @@ MOC in FITS, or a region file (see the README for the region format).`,
 				if len(args) != 2 {
 					return usagef("footprint info takes one footprint file")
 				}
-				return footprintInfo(a, fs, args[1])
+				return footprintInfo(a, fs, &comb, args[1])
 			case "apply":
 				if len(args) != 3 {
 					return usagef("footprint apply takes a footprint file and a catalogue")
@@ -64,16 +69,59 @@ MOC in FITS, or a region file (see the README for the region format).`,
 				if weights {
 					wo = &weightOptions{cf: &cf, nz: &nzf}
 				}
-				return footprintApply(a, fs, &cols, wo, args[1], args[2], out)
+				return footprintApply(a, fs, &cols, &comb, wo, args[1], args[2], out)
 			}
 			return usagef("unknown footprint action %q; expected info or apply", args[0])
 		},
 	})
 }
 
-func footprintInfo(a *app, fs *pflag.FlagSet, path string) error {
-	a.progress.Start("reading "+path, 0)
+// combineFlags combine the footprint with others: first every --or
+// (union, completeness the maximum), then every --and (intersection,
+// completeness multiplied), then every --minus (subtraction: zero where the
+// other footprint is positive).
+type combineFlags struct {
+	or, and, minus []string
+}
+
+func (c *combineFlags) register(fs *pflag.FlagSet) {
+	fs.StringArrayVar(&c.or, "or", nil, "union with another footprint file (repeatable)")
+	fs.StringArrayVar(&c.and, "and", nil, "intersection with another footprint file (repeatable)")
+	fs.StringArrayVar(&c.minus, "minus", nil, "subtract another footprint file, e.g. a star mask (repeatable)")
+}
+
+// open opens path and combines it as the flags say, recording every file
+// in the provenance.
+func (c *combineFlags) open(path string, prov *survey.Provenance) (footprint.Footprint, error) {
 	f, err := footprint.Open(path)
+	if err != nil {
+		return nil, err
+	}
+	if err := prov.AddInput(path, -1); err != nil {
+		return nil, err
+	}
+	for _, step := range []struct {
+		files []string
+		op    func(a, b footprint.Footprint) *footprint.Combined
+	}{{c.or, footprint.Union}, {c.and, footprint.Intersect}, {c.minus, footprint.Subtract}} {
+		for _, p := range step.files {
+			g, err := footprint.Open(p)
+			if err != nil {
+				return nil, err
+			}
+			if err := prov.AddInput(p, -1); err != nil {
+				return nil, err
+			}
+			f = step.op(f, g)
+		}
+	}
+	return f, nil
+}
+
+func footprintInfo(a *app, fs *pflag.FlagSet, comb *combineFlags, path string) error {
+	a.progress.Start("reading "+path, 0)
+	prov := a.newProvenance(fs)
+	f, err := comb.open(path, prov)
 	if err != nil {
 		return err
 	}
@@ -89,10 +137,6 @@ func footprintInfo(a *app, fs *pflag.FlagSet, path string) error {
 		fmt.Fprintf(w, "resolution:     %.6g deg\n", res)
 	} else {
 		fmt.Fprintf(w, "resolution:     exact shapes\n")
-	}
-	prov := a.newProvenance(fs)
-	if err := prov.AddInput(path, -1); err != nil {
-		return err
 	}
 	a.summary.SetProvenance(prov)
 	a.summary.Set("footprint", path)
@@ -110,8 +154,9 @@ type weightOptions struct {
 	nz *nzFlags
 }
 
-func footprintApply(a *app, fs *pflag.FlagSet, cols *columnFlags, wo *weightOptions, fpPath, catPath, out string) error {
-	f, err := footprint.Open(fpPath)
+func footprintApply(a *app, fs *pflag.FlagSet, cols *columnFlags, comb *combineFlags, wo *weightOptions, fpPath, catPath, out string) error {
+	prov := a.newProvenance(fs)
+	f, err := comb.open(fpPath, prov)
 	if err != nil {
 		return err
 	}
@@ -167,10 +212,6 @@ func footprintApply(a *app, fs *pflag.FlagSet, cols *columnFlags, wo *weightOpti
 		if err := t.Add(c); err != nil {
 			return err
 		}
-	}
-	prov := a.newProvenance(fs)
-	if err := prov.AddInput(fpPath, -1); err != nil {
-		return err
 	}
 	if err := prov.AddInput(catPath, int64(rep.Rows)); err != nil {
 		return err

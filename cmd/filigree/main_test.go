@@ -358,3 +358,27 @@ func TestFootprintApplyWeights(t *testing.T) {
 		}
 	}
 }
+
+// A 10° cap minus a concentric 5° cap is an annulus of area
+// 2π(cos 5° − cos 10°) sr (spherical zone area, Archimedes); the combined
+// footprint's area is a HEALPix pixel sum, good to well under 1% here.
+func TestFootprintCombine(t *testing.T) {
+	dir := t.TempDir()
+	big, small := filepath.Join(dir, "big.reg"), filepath.Join(dir, "small.reg")
+	os.WriteFile(big, []byte("include cap centre=200,40 radius=10\n"), 0o644)
+	os.WriteFile(small, []byte("include cap centre=200,40 radius=5\n"), 0o644)
+	sum := filepath.Join(dir, "s.json")
+	if code, _, stderr := run(t, "footprint", "info", big, "--minus", small, "--summary", sum); code != exitOK {
+		t.Fatalf("exit %d: %s", code, stderr)
+	}
+	js, _ := os.ReadFile(sum)
+	var s map[string]any
+	if err := json.Unmarshal(js, &s); err != nil {
+		t.Fatal(err)
+	}
+	const deg = math.Pi / 180
+	want := 2 * math.Pi * (math.Cos(5*deg) - math.Cos(10*deg)) / (deg * deg)
+	if got := s["area_deg2"].(float64); math.Abs(got/want-1) > 0.005 {
+		t.Errorf("annulus area %v deg², want %v", got, want)
+	}
+}
