@@ -54,7 +54,7 @@ type Cells struct {
 // rarely; a cell that does is computed again from the whole box.
 const cubeRel = 2.5
 
-var subFlush = false
+var subFlush = 24
 
 // virtTag marks the faces of the starting cube that are not box walls.
 const virtTag int32 = -2
@@ -71,14 +71,15 @@ type chunkBuf struct {
 }
 
 type worker struct {
-	p     poly  // face-list cell: degenerate cuts, measuring, diagnostics
-	g     gcell // vertex-edge cell used while all cuts are generic
-	slow  bool  // the current cell has moved from g to p
-	degen int   // cells moved to p (diagnostics)
-	redo  int   // cells computed again from the whole box (diagnostics)
-	pairs []nbrArea
-	cands []cand
-	keys  []candKey
+	p                         poly  // face-list cell: degenerate cuts, measuring, diagnostics
+	g                         gcell // vertex-edge cell used while all cuts are generic
+	slow                      bool  // the current cell has moved from g to p
+	degen                     int   // cells moved to p (diagnostics)
+	redo                      int   // cells computed again from the whole box (diagnostics)
+	nCand, nOff, nPts, nFlush int
+	pairs                     []nbrArea
+	cands                     []cand
+	keys                      []candKey
 }
 
 // candKey is a candidate's plane distance and its index in worker.cands.
@@ -311,6 +312,7 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 	// cell. It reports false when a coincident point of higher priority makes
 	// the cell empty.
 	scan := func(cell int, shift [3]float64, zeroShift bool, d2box float64) bool {
+		wk.nOff++
 		if d2box > 0 && d2box >= reach2 {
 			return true
 		}
@@ -319,6 +321,7 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 			if q2 == q && zeroShift {
 				continue
 			}
+			wk.nPts++
 			dx := ix.xyz[3*q2] + shift[0] - xi[0]
 			dy := ix.xyz[3*q2+1] + shift[1] - xi[1]
 			dz := ix.xyz[3*q2+2] + shift[2] - xi[2]
@@ -335,6 +338,7 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 				continue
 			}
 			d := math.Sqrt(d2)
+			wk.nCand++
 			wk.cands = append(wk.cands, cand{t: t2 / (2 * d), d: d, dx: dx, dy: dy, dz: dz, off: 0.5 * t2, tag: ix.order[q2]})
 		}
 		return true
@@ -421,21 +425,16 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 	// reports false when the cell became empty.
 	flush := func() bool {
 		cs := wk.cands
-		keys := wk.keys[:0]
-		for k := range cs {
-			keys = append(keys, candKey{cs[k].t, int32(k)})
-		}
+		wk.nFlush++
 		// Candidates are cut in order of increasing plane distance, so
 		// the nearest planes shrink the cell (and rmax) first; once the
 		// next plane lies beyond rmax so do all later ones.
-		w := 0
-		for _, k := range keys {
-			if k.t < rmax {
-				keys[w] = k
-				w++
+		keys := wk.keys[:0]
+		for k := range cs {
+			if t := cs[k].t; t < rmax {
+				keys = append(keys, candKey{t, int32(k)})
 			}
 		}
-		keys = keys[:w]
 		for a := 1; a < len(keys); a++ {
 			k := keys[a]
 			b := a
@@ -485,7 +484,7 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 			// flush after each set of offsets of equal bound and equal
 			// centre distance, so the nearest cells cut first
 			for c2 := ix.offs[k].c2; k < len(ix.offs) && ix.offs[k].b == b; {
-				if subFlush && ix.offs[k].c2 != c2 {
+				if ix.offs[k].c2 != c2 && len(wk.cands) >= subFlush {
 					if !flush() {
 						empty, done = true, true
 						break
@@ -541,11 +540,16 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 
 	var vol float64
 	var cen [3]float64
+	var ftag []int32
+	var farea []float64
 	if !empty {
-		if !wk.slow {
-			wk.g.toPoly(p)
+		if wk.slow {
+			vol, cen = p.measure()
+			ftag, farea = p.ftag, p.farea
+		} else {
+			vol, cen = wk.g.measure()
+			ftag, farea = wk.g.ftag, wk.g.farea
 		}
-		vol, cen = p.measure()
 	}
 	if vol <= 0 {
 		out.Volume[self] = 0
@@ -563,11 +567,11 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 	// repeated tags (several images of one point), drop walls, self-images
 	// and rounding slivers.
 	wk.pairs = wk.pairs[:0]
-	for f, t := range p.ftag {
+	for f, t := range ftag {
 		if t == wallTag || t == self {
 			continue
 		}
-		a := p.farea[f]
+		a := farea[f]
 		k := len(wk.pairs)
 		wk.pairs = append(wk.pairs, nbrArea{})
 		for k > 0 && wk.pairs[k-1].j > t {
