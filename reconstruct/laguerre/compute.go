@@ -49,16 +49,6 @@ type Cells struct {
 	workers []*worker
 }
 
-// cubeRel is the half-side of the starting cube of a cell relative to the
-// mean spacing s. Voronoi cells of uniform points reach beyond 2.5 s only
-// rarely; a cell that does is computed again from the whole box.
-const cubeRel = 2.5
-
-var subFlush = 24
-
-// virtTag marks the faces of the starting cube that are not box walls.
-const virtTag int32 = -2
-
 // chunkSize is the number of consecutive grid-ordered cells a worker takes
 // at a time.
 const chunkSize = 256
@@ -71,15 +61,10 @@ type chunkBuf struct {
 }
 
 type worker struct {
-	p                         poly  // face-list cell: degenerate cuts, measuring, diagnostics
-	g                         gcell // vertex-edge cell used while all cuts are generic
-	slow                      bool  // the current cell has moved from g to p
-	degen                     int   // cells moved to p (diagnostics)
-	redo                      int   // cells computed again from the whole box (diagnostics)
-	nCand, nOff, nPts, nFlush int
-	pairs                     []nbrArea
-	cands                     []cand
-	keys                      []candKey
+	p     poly
+	pairs []nbrArea
+	cands []cand
+	keys  []candKey
 }
 
 // candKey is a candidate's plane distance and its index in worker.cands.
@@ -274,37 +259,11 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 		}
 		c[k] = ix.cellCoord(xi[k], k)
 	}
+	p.reset(lo, hi)
+	rmax := math.Sqrt(p.rmax2)
 	cpsi := pi - psiMax
 	eps := epsRel * ix.scale
-	// The first attempt starts from the cube of half-side cubeRel·s about
-	// the point (within the box), with walls tagged virtTag, so that the
-	// first candidates see a small cell and few of them cut it.
-	hv := cubeRel * ix.scale
-	virtual := false
-	vlo, vhi := lo, hi
-	var tags, walls [6]int32
-	for k := 0; k < 3; k++ {
-		tags[2*k], tags[2*k+1] = wallTag, wallTag
-		walls[2*k], walls[2*k+1] = wallTag, wallTag
-		if -hv > lo[k] {
-			vlo[k], tags[2*k], virtual = -hv, virtTag, true
-		}
-		if hv < hi[k] {
-			vhi[k], tags[2*k+1], virtual = hv, virtTag, true
-		}
-	}
-	// rmax is the largest vertex distance of the current cell and reach²
-	// the squared distance beyond which no point's bisector can cut it
-	// (lowerPlane(d, cpsi) ≥ rmax for d ≥ reach).
-	var rmax, reach2 float64
-	setRmax := func(r2 float64) {
-		rmax = math.Sqrt(r2)
-		reach2 = math.Inf(-1)
-		if cpsi < r2 {
-			d := rmax + math.Sqrt(r2-cpsi)
-			reach2 = d * d * (1 + 1e-9)
-		}
-	}
+	empty := false
 
 	// scan gathers the points of grid cell number cell, shifted by a periodic
 	// image offset, whose bisector may cut the cell (plane distance t < rmax)
@@ -312,16 +271,14 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 	// cell. It reports false when a coincident point of higher priority makes
 	// the cell empty.
 	scan := func(cell int, shift [3]float64, zeroShift bool, d2box float64) bool {
-		wk.nOff++
-		if d2box > 0 && d2box >= reach2 {
+		if d2box > 0 && lowerPlane(math.Sqrt(d2box), cpsi) >= rmax {
 			return true
 		}
-		rmax2 := wk.rmax2()
+		rmax2 := p.rmax2
 		for q2 := int(ix.start[cell]); q2 < int(ix.start[cell+1]); q2++ {
 			if q2 == q && zeroShift {
 				continue
 			}
-			wk.nPts++
 			dx := ix.xyz[3*q2] + shift[0] - xi[0]
 			dy := ix.xyz[3*q2+1] + shift[1] - xi[1]
 			dz := ix.xyz[3*q2+2] + shift[2] - xi[2]
@@ -338,7 +295,6 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 				continue
 			}
 			d := math.Sqrt(d2)
-			wk.nCand++
 			wk.cands = append(wk.cands, cand{t: t2 / (2 * d), d: d, dx: dx, dy: dy, dz: dz, off: 0.5 * t2, tag: ix.order[q2]})
 		}
 		return true
@@ -425,36 +381,37 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 	// reports false when the cell became empty.
 	flush := func() bool {
 		cs := wk.cands
-		wk.nFlush++
-		// Candidates are cut in order of increasing plane distance, so
-		// the nearest planes shrink the cell (and rmax) first; once the
-		// next plane lies beyond rmax so do all later ones.
 		keys := wk.keys[:0]
 		for k := range cs {
-			if t := cs[k].t; t < rmax {
-				keys = append(keys, candKey{t, int32(k)})
-			}
+			keys = append(keys, candKey{cs[k].t, int32(k)})
 		}
-		for a := 1; a < len(keys); a++ {
-			k := keys[a]
-			b := a
-			for b > 0 && keys[b-1].t > k.t {
-				keys[b] = keys[b-1]
-				b--
+		// Repeated selection of the nearest plane, dropping candidates that
+		// the shrinking rmax has ruled out: cheaper than a full sort because
+		// most candidates drop out after the first few cuts.
+		for {
+			w, best := 0, -1
+			for _, k := range keys {
+				if k.t >= rmax {
+					continue
+				}
+				keys[w] = k
+				if best < 0 || k.t < keys[best].t {
+					best = w
+				}
+				w++
 			}
-			keys[b] = k
-		}
-		for _, k := range keys {
-			if k.t >= rmax {
+			if best < 0 {
 				break
 			}
-			cd := &cs[k.i]
-			switch wk.clip(cd.dx, cd.dy, cd.dz, cd.off, eps*cd.d, cd.tag) {
+			cd := &cs[keys[best].i]
+			keys[best] = keys[w-1]
+			keys = keys[:w-1]
+			switch p.clip(cd.dx, cd.dy, cd.dz, cd.off, eps*cd.d, cd.tag) {
 			case clipEmpty:
 				wk.keys = keys
 				return false
 			case clipCut:
-				setRmax(wk.rmax2())
+				rmax = math.Sqrt(p.rmax2)
 			}
 		}
 		wk.keys = keys
@@ -462,94 +419,56 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 		return true
 	}
 
-	empty := false
-	for attempt := 0; ; attempt++ {
-		if attempt == 0 && virtual {
-			wk.g.reset(vlo, vhi, tags)
-		} else {
-			wk.g.reset(lo, hi, walls)
+	wk.cands = wk.cands[:0]
+	done := false
+	for k := 0; k < len(ix.offs) && !done; {
+		b := ix.offs[k].b
+		if lowerPlane(b, cpsi) >= rmax {
+			done = true
+			break
 		}
-		wk.slow = false
-		setRmax(wk.g.rmax2)
-		empty = false
-		coincident := false
-		wk.cands = wk.cands[:0]
-		done := false
-		for k := 0; k < len(ix.offs) && !done; {
-			b := ix.offs[k].b
-			if lowerPlane(b, cpsi) >= rmax {
-				done = true
+		for ; k < len(ix.offs) && ix.offs[k].b == b; k++ {
+			if !collectT(ix.offs[k].o) {
+				empty, done = true, true
 				break
 			}
-			// flush after each set of offsets of equal bound and equal
-			// centre distance, so the nearest cells cut first
-			for c2 := ix.offs[k].c2; k < len(ix.offs) && ix.offs[k].b == b; {
-				if ix.offs[k].c2 != c2 && len(wk.cands) >= subFlush {
-					if !flush() {
+		}
+		if !done && !flush() {
+			empty, done = true, true
+		}
+	}
+	maxDim := max(ix.dims[0], ix.dims[1], ix.dims[2])
+	for s := offChunk + 1; !done; s++ {
+		if !ix.opt.Periodic && s > maxDim {
+			break
+		}
+		if lowerPlane(float64(s-1)*ix.gmin, cpsi) >= rmax {
+			break
+		}
+		// all offsets with Chebyshev norm s
+		for o2 := -s; o2 <= s && !done; o2++ {
+			for o1 := -s; o1 <= s && !done; o1++ {
+				step := 1
+				if o2 != -s && o2 != s && o1 != -s && o1 != s {
+					step = 2 * s
+				}
+				for o0 := -s; o0 <= s; o0 += step {
+					if !collect([3]int32{int32(o0), int32(o1), int32(o2)}) {
 						empty, done = true, true
 						break
 					}
-					c2 = ix.offs[k].c2
-				}
-				if !collectT(ix.offs[k].o) {
-					coincident, empty, done = true, true, true
-					break
-				}
-				k++
-			}
-			if !done && !flush() {
-				empty, done = true, true
-			}
-		}
-		maxDim := max(ix.dims[0], ix.dims[1], ix.dims[2])
-		for s := offChunk + 1; !done; s++ {
-			if !ix.opt.Periodic && s > maxDim {
-				break
-			}
-			if lowerPlane(float64(s-1)*ix.gmin, cpsi) >= rmax {
-				break
-			}
-			// all offsets with Chebyshev norm s
-			for o2 := -s; o2 <= s && !done; o2++ {
-				for o1 := -s; o1 <= s && !done; o1++ {
-					step := 1
-					if o2 != -s && o2 != s && o1 != -s && o1 != s {
-						step = 2 * s
-					}
-					for o0 := -s; o0 <= s; o0 += step {
-						if !collect([3]int32{int32(o0), int32(o1), int32(o2)}) {
-							coincident, empty, done = true, true, true
-							break
-						}
-					}
 				}
 			}
-			if !done && !flush() {
-				empty, done = true, true
-			}
 		}
-
-		// a cell that still has a virtual wall, or that the cube made
-		// empty, may reach beyond the cube: start again from the box
-		if attempt == 0 && virtual && !coincident && (empty || wk.hasVirtual()) {
-			wk.redo++
-			continue
+		if !done && !flush() {
+			empty, done = true, true
 		}
-		break
 	}
 
 	var vol float64
 	var cen [3]float64
-	var ftag []int32
-	var farea []float64
 	if !empty {
-		if wk.slow {
-			vol, cen = p.measure()
-			ftag, farea = p.ftag, p.farea
-		} else {
-			vol, cen = wk.g.measure()
-			ftag, farea = wk.g.ftag, wk.g.farea
-		}
+		vol, cen = p.measure()
 	}
 	if vol <= 0 {
 		out.Volume[self] = 0
@@ -567,11 +486,11 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 	// repeated tags (several images of one point), drop walls, self-images
 	// and rounding slivers.
 	wk.pairs = wk.pairs[:0]
-	for f, t := range ftag {
+	for f, t := range p.ftag {
 		if t == wallTag || t == self {
 			continue
 		}
-		a := farea[f]
+		a := p.farea[f]
 		k := len(wk.pairs)
 		wk.pairs = append(wk.pairs, nbrArea{})
 		for k > 0 && wk.pairs[k-1].j > t {
@@ -596,49 +515,6 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 		}
 	}
 	cb.cnt = append(cb.cnt, m)
-}
-
-// clip cuts the current cell by the plane n·x = off (see poly.clip), with
-// the vertex-edge cell g while every cut is generic and with the face-list
-// poly p from the first degenerate cut on.
-func (wk *worker) clip(nx, ny, nz, off, tol float64, tag int32) int {
-	if !wk.slow {
-		wk.p.calls++
-		r := wk.g.clip(nx, ny, nz, off, tol, tag)
-		if r != clipDegenerate {
-			if r == clipCut {
-				wk.p.cuts++
-			}
-			return r
-		}
-		wk.p.calls--
-		wk.g.toPoly(&wk.p)
-		wk.slow = true
-		wk.degen++
-	}
-	return wk.p.clip(nx, ny, nz, off, tol, tag)
-}
-
-// hasVirtual reports whether the current cell has a face on the virtual
-// starting cube.
-func (wk *worker) hasVirtual() bool {
-	ft := wk.p.ftag
-	if !wk.slow {
-		ft = wk.g.ft[:3*wk.g.nv]
-	}
-	for _, t := range ft {
-		if t == virtTag {
-			return true
-		}
-	}
-	return false
-}
-
-func (wk *worker) rmax2() float64 {
-	if wk.slow {
-		return wk.p.rmax2
-	}
-	return wk.g.rmax2
 }
 
 func floorDiv(a, b int) int {

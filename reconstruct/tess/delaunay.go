@@ -95,9 +95,6 @@ func (b *builder) lexLess(u, v int32) bool {
 func (b *builder) inSpherePerturbed(v *[4]int32, p int32) int {
 	pp := b.pt(p)
 	p0, p1, p2, p3 := b.pt(v[0]), b.pt(v[1]), b.pt(v[2]), b.pt(v[3])
-	if s := insphereStatic(p0, p1, p2, p3, pp); s != 0 {
-		return s
-	}
 	if s := insphere(p0, p1, p2, p3, pp); s != 0 {
 		return s
 	}

@@ -148,66 +148,6 @@ func insphere(a, b, c, d, e *[3]float64) int {
 	return insphereExact(a, b, c, d, e)
 }
 
-// ispStaticBound is the error bound of insphereStatic relative to M⁵,
-// where M is the largest magnitude of the twelve coordinate differences.
-// With every |difference| ≤ M, each 2×2 product sum in the permanent of
-// insphere is at most 2M², each of the four bracketed sums at most
-// 3·2M²·M = 6M³, and each lift at most 3M², so P ≤ 72M⁵ (and the
-// floating-point P is at most that, inflated by a few roundings; the
-// factor 73 covers them and the rounding of M⁵). Hence ispErrBoundA·73·M⁵
-// bounds the error of the computed determinant whenever Shewchuk's bound
-// does. This is a "semi-static" filter in the sense of Meyer & Pion,
-// "FPG: A code generator for fast and certified geometric predicates",
-// Real Numbers and Computers 2008: it skips computing the permanent.
-const ispStaticBound = ispErrBoundA * 73
-
-// insphereStatic returns the sign of insphere(a, b, c, d, e) when a cheap
-// floating-point filter certifies it, and 0 when it cannot decide (then
-// the caller uses insphere). It evaluates the determinant exactly as
-// insphere does, with the error bound ispStaticBound·M⁵ instead of one
-// computed from the permanent, and gives up when M is outside [1e-50,
-// 1e50], where M⁵ could underflow or overflow.
-func insphereStatic(a, b, c, d, e *[3]float64) int {
-	aex, bex, cex, dex := a[0]-e[0], b[0]-e[0], c[0]-e[0], d[0]-e[0]
-	aey, bey, cey, dey := a[1]-e[1], b[1]-e[1], c[1]-e[1], d[1]-e[1]
-	aez, bez, cez, dez := a[2]-e[2], b[2]-e[2], c[2]-e[2], d[2]-e[2]
-
-	m := max(math.Abs(aex), math.Abs(bex), math.Abs(cex), math.Abs(dex),
-		math.Abs(aey), math.Abs(bey), math.Abs(cey), math.Abs(dey),
-		math.Abs(aez), math.Abs(bez), math.Abs(cez), math.Abs(dez))
-
-	ab := aex*bey - bex*aey
-	bc := bex*cey - cex*bey
-	cd := cex*dey - dex*cey
-	da := dex*aey - aex*dey
-	ac := aex*cey - cex*aey
-	bd := bex*dey - dex*bey
-
-	abc := aez*bc - bez*ac + cez*ab
-	bcd := bez*cd - cez*bd + dez*bc
-	cda := cez*da + dez*ac + aez*cd
-	dab := dez*ab + aez*bd + bez*da
-
-	alift := aex*aex + aey*aey + aez*aez
-	blift := bex*bex + bey*bey + bez*bez
-	clift := cex*cex + cey*cey + cez*cez
-	dlift := dex*dex + dey*dey + dez*dez
-
-	det := (dlift*abc - clift*dab) + (blift*cda - alift*bcd)
-	if !(m >= 1e-50 && m <= 1e50) {
-		return 0
-	}
-	m2 := m * m
-	bound := ispStaticBound * (m2 * m2 * m)
-	if det > bound {
-		return -1
-	}
-	if -det > bound {
-		return 1
-	}
-	return 0
-}
-
 // Expansion arithmetic (Shewchuk 1997, sections 2.3–2.8). An expansion is a
 // slice of float64 components, nonoverlapping and ordered by increasing
 // magnitude, whose exact sum is the value represented; zero components are
