@@ -49,6 +49,14 @@ type Cells struct {
 	workers []*worker
 }
 
+// cubeRel is the half-side of the starting cube of a cell relative to the
+// mean spacing s. Voronoi cells of uniform points reach beyond 2.5 s only
+// rarely; a cell that does is computed again from the whole box.
+const cubeRel = 2.5
+
+// virtTag marks the faces of the starting cube that are not box walls.
+const virtTag int32 = -2
+
 // chunkSize is the number of consecutive grid-ordered cells a worker takes
 // at a time.
 const chunkSize = 256
@@ -61,23 +69,28 @@ type chunkBuf struct {
 }
 
 type worker struct {
-	p     poly
+	p     poly  // face-list cell: degenerate cuts, measuring, diagnostics
+	g     gcell // vertex-edge cell used while all cuts are generic
+	slow  bool  // the current cell has moved from g to p
+	degen int   // cells moved to p (diagnostics)
+	redo  int   // cells computed again from the whole box (diagnostics)
 	pairs []nbrArea
 	cands []cand
 	keys  []candKey
 }
 
-// candKey is a candidate's plane distance and its index in worker.cands.
+// candKey is a candidate's plane distance t from p_i and its index in
+// worker.cands.
 type candKey struct {
 	t float64
 	i int32
 }
 
 // cand is a point whose power bisector may cut the current cell: the plane
-// n·x = off with n = (dx, dy, dz) = p_j − p_i, |n| = d, at distance t from p_i.
+// n·x = off with n = (dx, dy, dz) = p_j − p_i, |n| = d.
 type cand struct {
-	t, d, dx, dy, dz, off float64
-	tag                   int32
+	d, dx, dy, dz, off float64
+	tag                int32
 }
 
 type nbrArea struct {
@@ -101,7 +114,8 @@ func Compute(xyz, psi []float64, opt Options, out *Cells) error {
 // Compute computes the Laguerre cells of the indexed points with weights
 // psi (coordinate units squared, one per point) into out. Weights must be
 // finite. Cells are clipped one by one (Voro++-style): each starts as the
-// box, or in periodic mode as the cube of side Hi−Lo centred on the point,
+// box, or in periodic mode as the cube of side Hi−Lo centred on the point
+// (first trying a smaller cube about the point, see the package comment),
 // and is cut by the power bisectors of the other points in order of
 // increasing grid distance until no remaining point can reach it. A point
 // coinciding with another of larger weight, or of equal weight and lower
@@ -259,11 +273,37 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 		}
 		c[k] = ix.cellCoord(xi[k], k)
 	}
-	p.reset(lo, hi)
-	rmax := math.Sqrt(p.rmax2)
 	cpsi := pi - psiMax
 	eps := epsRel * ix.scale
-	empty := false
+	// The first attempt starts from the cube of half-side cubeRel·s about
+	// the point (within the box), with walls tagged virtTag, so that the
+	// first candidates see a small cell and few of them cut it.
+	hv := cubeRel * ix.scale
+	virtual := false
+	vlo, vhi := lo, hi
+	var tags, walls [6]int32
+	for k := 0; k < 3; k++ {
+		tags[2*k], tags[2*k+1] = wallTag, wallTag
+		walls[2*k], walls[2*k+1] = wallTag, wallTag
+		if -hv > lo[k] {
+			vlo[k], tags[2*k], virtual = -hv, virtTag, true
+		}
+		if hv < hi[k] {
+			vhi[k], tags[2*k+1], virtual = hv, virtTag, true
+		}
+	}
+	// rmax is the largest vertex distance of the current cell and reach²
+	// the squared distance beyond which no point's bisector can cut it
+	// (lowerPlane(d, cpsi) ≥ rmax for d ≥ reach).
+	var rmax, reach2 float64
+	setRmax := func(r2 float64) {
+		rmax = math.Sqrt(r2)
+		reach2 = math.Inf(-1)
+		if cpsi < r2 {
+			d := rmax + math.Sqrt(r2-cpsi)
+			reach2 = d * d * (1 + 1e-9)
+		}
+	}
 
 	// scan gathers the points of grid cell number cell, shifted by a periodic
 	// image offset, whose bisector may cut the cell (plane distance t < rmax)
@@ -271,10 +311,10 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 	// cell. It reports false when a coincident point of higher priority makes
 	// the cell empty.
 	scan := func(cell int, shift [3]float64, zeroShift bool, d2box float64) bool {
-		if d2box > 0 && lowerPlane(math.Sqrt(d2box), cpsi) >= rmax {
+		if d2box > 0 && d2box >= reach2 {
 			return true
 		}
-		rmax2 := p.rmax2
+		rmax2 := wk.rmax2()
 		for q2 := int(ix.start[cell]); q2 < int(ix.start[cell+1]); q2++ {
 			if q2 == q && zeroShift {
 				continue
@@ -295,7 +335,9 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 				continue
 			}
 			d := math.Sqrt(d2)
-			wk.cands = append(wk.cands, cand{t: t2 / (2 * d), d: d, dx: dx, dy: dy, dz: dz, off: 0.5 * t2, tag: ix.order[q2]})
+			t := t2 / (2 * d)
+			wk.keys = append(wk.keys, candKey{t, int32(len(wk.cands))})
+			wk.cands = append(wk.cands, cand{d: d, dx: dx, dy: dy, dz: dz, off: 0.5 * t2, tag: ix.order[q2]})
 		}
 		return true
 	}
@@ -381,94 +423,115 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 	// reports false when the cell became empty.
 	flush := func() bool {
 		cs := wk.cands
-		keys := wk.keys[:0]
-		for k := range cs {
-			keys = append(keys, candKey{cs[k].t, int32(k)})
-		}
-		// Repeated selection of the nearest plane, dropping candidates that
-		// the shrinking rmax has ruled out: cheaper than a full sort because
-		// most candidates drop out after the first few cuts.
-		for {
-			w, best := 0, -1
-			for _, k := range keys {
-				if k.t >= rmax {
-					continue
-				}
-				keys[w] = k
-				if best < 0 || k.t < keys[best].t {
-					best = w
-				}
-				w++
+		// Candidates are cut in order of increasing plane distance, so
+		// the nearest planes shrink the cell (and rmax) first; once the
+		// next plane lies beyond rmax so do all later ones.
+		keys := wk.keys
+		for a := 1; a < len(keys); a++ {
+			k := keys[a]
+			b := a
+			for b > 0 && keys[b-1].t > k.t {
+				keys[b] = keys[b-1]
+				b--
 			}
-			if best < 0 {
+			keys[b] = k
+		}
+		for _, k := range keys {
+			if k.t >= rmax {
 				break
 			}
-			cd := &cs[keys[best].i]
-			keys[best] = keys[w-1]
-			keys = keys[:w-1]
-			switch p.clip(cd.dx, cd.dy, cd.dz, cd.off, eps*cd.d, cd.tag) {
+			cd := &cs[k.i]
+			switch wk.clip(cd.dx, cd.dy, cd.dz, cd.off, eps*cd.d, cd.tag) {
 			case clipEmpty:
-				wk.keys = keys
+				wk.keys = keys[:0]
 				return false
 			case clipCut:
-				rmax = math.Sqrt(p.rmax2)
+				setRmax(wk.rmax2())
 			}
 		}
-		wk.keys = keys
+		wk.keys = keys[:0]
 		wk.cands = wk.cands[:0]
 		return true
 	}
 
-	wk.cands = wk.cands[:0]
-	done := false
-	for k := 0; k < len(ix.offs) && !done; {
-		b := ix.offs[k].b
-		if lowerPlane(b, cpsi) >= rmax {
-			done = true
-			break
+	empty := false
+	for attempt := 0; ; attempt++ {
+		if attempt == 0 && virtual {
+			wk.g.reset(vlo, vhi, tags)
+		} else {
+			wk.g.reset(lo, hi, walls)
 		}
-		for ; k < len(ix.offs) && ix.offs[k].b == b; k++ {
-			if !collectT(ix.offs[k].o) {
-				empty, done = true, true
+		wk.slow = false
+		setRmax(wk.g.rmax2)
+		empty = false
+		coincident := false
+		wk.cands, wk.keys = wk.cands[:0], wk.keys[:0]
+		done := false
+		for k := 0; k < len(ix.offs) && !done; {
+			b := ix.offs[k].b
+			if lowerPlane(b, cpsi) >= rmax {
+				done = true
 				break
 			}
-		}
-		if !done && !flush() {
-			empty, done = true, true
-		}
-	}
-	maxDim := max(ix.dims[0], ix.dims[1], ix.dims[2])
-	for s := offChunk + 1; !done; s++ {
-		if !ix.opt.Periodic && s > maxDim {
-			break
-		}
-		if lowerPlane(float64(s-1)*ix.gmin, cpsi) >= rmax {
-			break
-		}
-		// all offsets with Chebyshev norm s
-		for o2 := -s; o2 <= s && !done; o2++ {
-			for o1 := -s; o1 <= s && !done; o1++ {
-				step := 1
-				if o2 != -s && o2 != s && o1 != -s && o1 != s {
-					step = 2 * s
+			for ; k < len(ix.offs) && ix.offs[k].b == b; k++ {
+				if !collectT(ix.offs[k].o) {
+					coincident, empty, done = true, true, true
+					break
 				}
-				for o0 := -s; o0 <= s; o0 += step {
-					if !collect([3]int32{int32(o0), int32(o1), int32(o2)}) {
-						empty, done = true, true
-						break
+			}
+			if !done && !flush() {
+				empty, done = true, true
+			}
+		}
+		maxDim := max(ix.dims[0], ix.dims[1], ix.dims[2])
+		for s := offChunk + 1; !done; s++ {
+			if !ix.opt.Periodic && s > maxDim {
+				break
+			}
+			if lowerPlane(float64(s-1)*ix.gmin, cpsi) >= rmax {
+				break
+			}
+			// all offsets with Chebyshev norm s
+			for o2 := -s; o2 <= s && !done; o2++ {
+				for o1 := -s; o1 <= s && !done; o1++ {
+					step := 1
+					if o2 != -s && o2 != s && o1 != -s && o1 != s {
+						step = 2 * s
+					}
+					for o0 := -s; o0 <= s; o0 += step {
+						if !collect([3]int32{int32(o0), int32(o1), int32(o2)}) {
+							coincident, empty, done = true, true, true
+							break
+						}
 					}
 				}
 			}
+			if !done && !flush() {
+				empty, done = true, true
+			}
 		}
-		if !done && !flush() {
-			empty, done = true, true
+
+		// a cell that still has a virtual wall, or that the cube made
+		// empty, may reach beyond the cube: start again from the box
+		if attempt == 0 && virtual && !coincident && (empty || wk.hasVirtual()) {
+			wk.redo++
+			continue
 		}
+		break
 	}
 
 	var vol float64
 	var cen [3]float64
+	var ftag []int32
+	var farea []float64
 	if !empty {
-		vol, cen = p.measure()
+		if wk.slow {
+			vol, cen = p.measure()
+			ftag, farea = p.ftag, p.farea
+		} else {
+			vol, cen = wk.g.measure()
+			ftag, farea = wk.g.ftag, wk.g.farea
+		}
 	}
 	if vol <= 0 {
 		out.Volume[self] = 0
@@ -486,11 +549,11 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 	// repeated tags (several images of one point), drop walls, self-images
 	// and rounding slivers.
 	wk.pairs = wk.pairs[:0]
-	for f, t := range p.ftag {
+	for f, t := range ftag {
 		if t == wallTag || t == self {
 			continue
 		}
-		a := p.farea[f]
+		a := farea[f]
 		k := len(wk.pairs)
 		wk.pairs = append(wk.pairs, nbrArea{})
 		for k > 0 && wk.pairs[k-1].j > t {
@@ -515,6 +578,49 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 		}
 	}
 	cb.cnt = append(cb.cnt, m)
+}
+
+// clip cuts the current cell by the plane n·x = off (see poly.clip), with
+// the vertex-edge cell g while every cut is generic and with the face-list
+// poly p from the first degenerate cut on.
+func (wk *worker) clip(nx, ny, nz, off, tol float64, tag int32) int {
+	if !wk.slow {
+		wk.p.calls++
+		r := wk.g.clip(nx, ny, nz, off, tol, tag)
+		if r != clipDegenerate {
+			if r == clipCut {
+				wk.p.cuts++
+			}
+			return r
+		}
+		wk.p.calls--
+		wk.g.toPoly(&wk.p)
+		wk.slow = true
+		wk.degen++
+	}
+	return wk.p.clip(nx, ny, nz, off, tol, tag)
+}
+
+// hasVirtual reports whether the current cell has a face on the virtual
+// starting cube.
+func (wk *worker) hasVirtual() bool {
+	ft := wk.p.ftag
+	if !wk.slow {
+		ft = wk.g.ft[:3*wk.g.nv]
+	}
+	for _, t := range ft {
+		if t == virtTag {
+			return true
+		}
+	}
+	return false
+}
+
+func (wk *worker) rmax2() float64 {
+	if wk.slow {
+		return wk.p.rmax2
+	}
+	return wk.g.rmax2
 }
 
 func floorDiv(a, b int) int {

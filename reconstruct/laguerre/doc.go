@@ -25,6 +25,15 @@
 // cell. Cells are independent, so they are computed in parallel and the
 // result does not depend on the number of threads.
 //
+// The first attempt at a cell starts from the smaller cube of half-side
+// 2.5 s about the point (clipped to the box); if a face of that cube
+// survives, or the cell comes out empty, the cell is computed again from
+// the whole box. While every cut is generic the cell is a vertex-edge graph
+// with three edges per vertex (gcell), and a cut touches only the removed
+// vertices; from the first plane passing within the tolerance of a vertex
+// next to the removed part, the cell is carried on as face lists (poly),
+// which handle vertices shared by more than three faces.
+//
 // # Tolerance
 //
 // A vertex within epsRel·s = 1e-11·s of a cutting plane, s = (box volume /
