@@ -52,6 +52,7 @@ type builder struct {
 
 	cav, bnd []int32 // cavity tetrahedra and boundary corners of one insertion
 	newt     []int32 // tetrahedra created by one insertion
+	touch    int32   // sink for loads that only warm the cache
 }
 
 // errInternal reports a broken invariant of the construction; it is never
@@ -137,6 +138,9 @@ func (b *builder) orientWith(t int32, i int, p int32) int {
 			q[k] = b.pt(b.r[8*t+int32(k)])
 		}
 	}
+	if o := orient3dStatic(q[0], q[1], q[2], q[3]); o != 0 {
+		return o
+	}
 	return orient3d(q[0], q[1], q[2], q[3])
 }
 
@@ -160,6 +164,10 @@ func (b *builder) infPos(t int32) int {
 func (b *builder) conflict(t int32, p int32) bool {
 	v := (*[4]int32)(b.r[8*t : 8*t+4])
 	if v[0]|v[1]|v[2]|v[3] >= 0 { // finite: inf is the only negative vertex
+		pts := b.pts
+		if s := insphereStatic(&pts[v[0]], &pts[v[1]], &pts[v[2]], &pts[v[3]], &pts[p]); s != 0 {
+			return s > 0
+		}
 		return b.inSpherePerturbed(v, p) > 0
 	}
 	i := int(b.pos(t, inf))
@@ -169,6 +177,20 @@ func (b *builder) conflict(t int32, p int32) bool {
 	}
 	u := b.r[8*t+4+int32(i)] >> 2
 	return b.inSpherePerturbed((*[4]int32)(b.r[8*u:8*u+4]), p) > 0
+}
+
+// conflictIn is conflict(t, p) with the filtered test of a finite
+// tetrahedron written out for the cavity search; r is b.r, pts is b.pts
+// and pp the coordinates of p.
+func (b *builder) conflictIn(r []int32, t int32, pts [][3]float64, pp *[3]float64, p int32) bool {
+	w := (*[4]int32)(r[8*t : 8*t+4])
+	if w[0]|w[1]|w[2]|w[3] >= 0 {
+		if s := insphereStatic(&pts[w[0]], &pts[w[1]], &pts[w[2]], &pts[w[3]], pp); s != 0 {
+			return s > 0
+		}
+		return b.inSpherePerturbed(w, p) > 0
+	}
+	return b.conflict(t, p)
 }
 
 func (b *builder) rand4() int {
@@ -241,16 +263,20 @@ func (b *builder) newTet() int32 {
 
 // pos returns the position of vertex v in tetrahedron t.
 func (b *builder) pos(t, v int32) int32 {
-	r := b.r[8*t : 8*t+4]
-	switch v {
-	case r[0]:
-		return 0
-	case r[1]:
-		return 1
-	case r[2]:
-		return 2
+	r := (*[4]int32)(b.r[8*t : 8*t+4])
+	// written as conditional assignments, which compile to conditional
+	// moves: the position is unpredictable, a branch would often miss
+	k := int32(3)
+	if r[2] == v {
+		k = 2
 	}
-	return 3
+	if r[1] == v {
+		k = 1
+	}
+	if r[0] == v {
+		k = 0
+	}
+	return k
 }
 
 // insert adds vertex p to the triangulation.
@@ -259,26 +285,34 @@ func (b *builder) insert(p int32) error {
 	if t < 0 || !b.conflict(t, p) {
 		return errInternal
 	}
-	b.cav = append(b.cav[:0], t)
-	b.bnd = b.bnd[:0]
-	b.mark[t] = markIn
-	for k := 0; k < len(b.cav); k++ {
-		c := b.cav[k]
+	cav, bnd := append(b.cav[:0], t), b.bnd[:0]
+	r, mark, pts := b.r, b.mark, b.pts
+	pp := &pts[p]
+	mark[t] = markIn
+	touch := int32(0)
+	for k := 0; k < len(cav); k++ {
+		c := cav[k]
+		nb := (*[4]int32)(r[8*c+4 : 8*c+8])
+		// Load the four neighbour records together, so that their cache
+		// misses overlap instead of coming one after another.
+		touch += r[nb[0]&^3*2] + r[nb[1]&^3*2] + r[nb[2]&^3*2] + r[nb[3]&^3*2]
 		for i := int32(0); i < 4; i++ {
-			u := b.r[8*c+4+i] >> 2
-			m := b.mark[u]
+			u := nb[i] >> 2
+			m := mark[u]
 			if m == markIn {
 				continue
 			}
-			if m == markOut || !b.conflict(u, p) {
-				b.mark[u] = markOut
-				b.bnd = append(b.bnd, 4*c+i)
+			if m == markOut || !b.conflictIn(r, u, pts, pp, p) {
+				mark[u] = markOut
+				bnd = append(bnd, 4*c+i)
 				continue
 			}
-			b.mark[u] = markIn
-			b.cav = append(b.cav, u)
+			mark[u] = markIn
+			cav = append(cav, u)
 		}
 	}
+	b.cav, b.bnd = cav, bnd
+	b.touch += touch
 	// Star the cavity boundary from p: one new tetrahedron per boundary
 	// face (c, i), which is c with vertex i replaced by p. Its slot i in c is
 	// overwritten with −(new+1), so the boundary faces can be recognised

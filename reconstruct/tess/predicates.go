@@ -17,7 +17,11 @@ import "math"
 //     exact value is returned.
 //
 // Shewchuk's intermediate adaptive stages (B, C) are not ported: the exact
-// stage is only reached for (nearly) degenerate configurations.
+// stage is only reached for (nearly) degenerate configurations. The
+// construction tries a cheaper "semi-static" filter first
+// (orient3dStatic, insphereStatic), whose bound is a multiple of a power of
+// the largest coordinate difference instead of the permanent, and falls
+// back to orient3d and insphere when it cannot decide.
 //
 // The error bounds are Shewchuk's "errboundA" constants with ε = 2^-53, the
 // unit roundoff of float64 under round-to-nearest-even:
@@ -146,6 +150,107 @@ func insphere(a, b, c, d, e *[3]float64) int {
 		return 1
 	}
 	return insphereExact(a, b, c, d, e)
+}
+
+// absBits returns the bits of |x|. For x not NaN, the bits of absolute
+// values are ordered as the values, so the largest magnitude is found with
+// integer maxima, which compile to conditional moves (a NaN gives bits
+// above +Inf, which the range checks of the filters reject).
+func absBits(x float64) uint64 { return math.Float64bits(x) &^ (1 << 63) }
+
+// o3dStaticBound is the error bound of orient3dStatic relative to M³, M
+// the largest magnitude of the nine coordinate differences: each of the
+// three terms of the permanent of orient3d is (|·|+|·|)·|·| ≤ 2M³, so
+// P ≤ 6M³, and the factor 7 covers the roundings of P and of M³ (see
+// ispStaticBound).
+const o3dStaticBound = o3dErrBoundA * 7
+
+// orient3dStatic returns orient3d(a, b, c, d) when a cheap floating-point
+// filter certifies it, and 0 when it cannot decide. It evaluates the
+// determinant exactly as orient3d does, with the error bound
+// o3dStaticBound·M³ instead of one computed from the permanent, and gives
+// up when M is outside [1e-50, 1e50].
+func orient3dStatic(a, b, c, d *[3]float64) int {
+	adx, bdx, cdx := a[0]-d[0], b[0]-d[0], c[0]-d[0]
+	ady, bdy, cdy := a[1]-d[1], b[1]-d[1], c[1]-d[1]
+	adz, bdz, cdz := a[2]-d[2], b[2]-d[2], c[2]-d[2]
+	m := math.Float64frombits(max(
+		max(absBits(adx), absBits(bdx), absBits(cdx)),
+		max(absBits(ady), absBits(bdy), absBits(cdy)),
+		max(absBits(adz), absBits(bdz), absBits(cdz))))
+	det := adz*(bdx*cdy-cdx*bdy) + bdz*(cdx*ady-adx*cdy) + cdz*(adx*bdy-bdx*ady)
+	if !(m >= 1e-50 && m <= 1e50) {
+		return 0
+	}
+	bound := o3dStaticBound * (m * m * m)
+	if det > bound {
+		return -1
+	}
+	if -det > bound {
+		return 1
+	}
+	return 0
+}
+
+// ispStaticBound is the error bound of insphereStatic relative to M⁵,
+// where M is the largest magnitude of the twelve coordinate differences.
+// With every |difference| ≤ M, each 2×2 product sum in the permanent of
+// insphere is at most 2M², each of the four bracketed sums at most
+// 3·2M²·M = 6M³, and each lift at most 3M², so P ≤ 72M⁵ (and the
+// floating-point P is at most that, inflated by a few roundings; the
+// factor 73 covers them and the rounding of M⁵). Hence ispErrBoundA·73·M⁵
+// bounds the error of the computed determinant whenever Shewchuk's bound
+// does. This is a "semi-static" filter in the sense of Meyer & Pion,
+// "FPG: A code generator for fast and certified geometric predicates",
+// Real Numbers and Computers 2008: it skips computing the permanent.
+const ispStaticBound = ispErrBoundA * 73
+
+// insphereStatic returns the sign of insphere(a, b, c, d, e) when a cheap
+// floating-point filter certifies it, and 0 when it cannot decide (then
+// the caller uses insphere). It evaluates the determinant exactly as
+// insphere does, with the error bound ispStaticBound·M⁵ instead of one
+// computed from the permanent, and gives up when M is outside [1e-50,
+// 1e50], where M⁵ could underflow or overflow.
+func insphereStatic(a, b, c, d, e *[3]float64) int {
+	aex, bex, cex, dex := a[0]-e[0], b[0]-e[0], c[0]-e[0], d[0]-e[0]
+	aey, bey, cey, dey := a[1]-e[1], b[1]-e[1], c[1]-e[1], d[1]-e[1]
+	aez, bez, cez, dez := a[2]-e[2], b[2]-e[2], c[2]-e[2], d[2]-e[2]
+
+	m := math.Float64frombits(max(
+		max(max(absBits(aex), absBits(bex)), max(absBits(cex), absBits(dex))),
+		max(max(absBits(aey), absBits(bey)), max(absBits(cey), absBits(dey))),
+		max(max(absBits(aez), absBits(bez)), max(absBits(cez), absBits(dez)))))
+
+	ab := aex*bey - bex*aey
+	bc := bex*cey - cex*bey
+	cd := cex*dey - dex*cey
+	da := dex*aey - aex*dey
+	ac := aex*cey - cex*aey
+	bd := bex*dey - dex*bey
+
+	abc := aez*bc - bez*ac + cez*ab
+	bcd := bez*cd - cez*bd + dez*bc
+	cda := cez*da + dez*ac + aez*cd
+	dab := dez*ab + aez*bd + bez*da
+
+	alift := aex*aex + aey*aey + aez*aez
+	blift := bex*bex + bey*bey + bez*bez
+	clift := cex*cex + cey*cey + cez*cez
+	dlift := dex*dex + dey*dey + dez*dez
+
+	det := (dlift*abc - clift*dab) + (blift*cda - alift*bcd)
+	if !(m >= 1e-50 && m <= 1e50) {
+		return 0
+	}
+	m2 := m * m
+	bound := ispStaticBound * (m2 * m2 * m)
+	if det > bound {
+		return -1
+	}
+	if -det > bound {
+		return 1
+	}
+	return 0
 }
 
 // Expansion arithmetic (Shewchuk 1997, sections 2.3–2.8). An expansion is a

@@ -165,3 +165,42 @@ func TestPredicatesRandom(t *testing.T) {
 		}
 	}
 }
+
+// TestStaticFilters checks that the semi-static filters, whenever they
+// decide, agree with exact rational arithmetic (math/big), on random
+// points, on points rounded to a coarse grid (many exact ties) and on
+// nearly degenerate configurations.
+func TestStaticFilters(t *testing.T) {
+	rng := rand.New(rand.NewPCG(21, 22))
+	decided := 0
+	for it := 0; it < 20000; it++ {
+		var p [5][3]float64
+		for i := range p {
+			for k := 0; k < 3; k++ {
+				switch it % 3 {
+				case 0:
+					p[i][k] = rng.Float64()*200 - 100
+				case 1:
+					p[i][k] = float64(rng.IntN(4))
+				default:
+					p[i][k] = 1 + rng.Float64()*1e-12
+				}
+			}
+		}
+		if s := orient3dStatic(&p[0], &p[1], &p[2], &p[3]); s != 0 {
+			decided++
+			if want := bigOrient(p[0], p[1], p[2], p[3]); s != want {
+				t.Fatalf("orient3dStatic%v = %d, exact %d", p[:4], s, want)
+			}
+		}
+		if s := insphereStatic(&p[0], &p[1], &p[2], &p[3], &p[4]); s != 0 {
+			decided++
+			if want := bigInSphere(p[0], p[1], p[2], p[3], p[4]); s != want {
+				t.Fatalf("insphereStatic%v = %d, exact %d", p, s, want)
+			}
+		}
+	}
+	if decided < 10000 {
+		t.Errorf("the filters decided only %d of 40000 cases", decided)
+	}
+}

@@ -280,16 +280,15 @@ func insertionOrder(xyz []float64, rep []int32, seed uint64) []int32 {
 // index, then interleave its bits.
 func hilbert3(c [3]uint32, nbits int) uint64 {
 	m := uint32(1) << (nbits - 1)
-	for q := m; q > 1; q >>= 1 {
-		p := q - 1
+	for bit := nbits - 1; bit > 0; bit-- {
+		p := uint32(1)<<bit - 1
 		for i := 0; i < 3; i++ {
-			if c[i]&q != 0 {
-				c[0] ^= p
-			} else {
-				t := (c[0] ^ c[i]) & p
-				c[0] ^= t
-				c[i] ^= t
-			}
+			// Without branches: if bit of c[i] is set, invert the low
+			// bits of c[0]; else exchange the low bits of c[0] and c[i].
+			set := -(c[i] >> bit & 1) // all ones when set
+			t := (c[0] ^ c[i]) & p &^ set
+			c[0] ^= p&set | t
+			c[i] ^= t
 		}
 	}
 	c[1] ^= c[0]
@@ -303,11 +302,19 @@ func hilbert3(c [3]uint32, nbits int) uint64 {
 	c[0] ^= t
 	c[1] ^= t
 	c[2] ^= t
-	var key uint64
-	for bit := nbits - 1; bit >= 0; bit-- {
-		key = key<<3 | uint64(c[0]>>bit&1)<<2 | uint64(c[1]>>bit&1)<<1 | uint64(c[2]>>bit&1)
-	}
-	return key
+	// interleave: bit k of c[0], c[1], c[2] goes to bit 3k+2, 3k+1, 3k
+	return spread3(c[0])<<2 | spread3(c[1])<<1 | spread3(c[2])
+}
+
+// spread3 moves bit k of the low 21 bits of x to bit 3k.
+func spread3(x uint32) uint64 {
+	v := uint64(x) & 0x1fffff
+	v = (v | v<<32) & 0x1f00000000ffff
+	v = (v | v<<16) & 0x1f0000ff0000ff
+	v = (v | v<<8) & 0x100f00f00f00f00f
+	v = (v | v<<4) & 0x10c30c30c30c30c3
+	v = (v | v<<2) & 0x1249249249249249
+	return v
 }
 
 // triangulate builds the Delaunay tessellation, with its infinite
@@ -323,20 +330,18 @@ func triangulate(xyz []float64, rep []int32, seed uint64) (*builder, error) {
 		local[k] = [3]float64(xyz[3*v : 3*v+3])
 	}
 	b := &builder{pts: local, ids: order, rng: seed | 1}
-	seq := make([]int32, len(order))
-	for k := range seq {
-		seq[k] = int32(k)
-	}
-	first, err := b.initial(seq)
+	first, err := b.initial(len(order))
 	if err != nil {
 		return nil, err
 	}
 	// 6.77 tetrahedra per point in a Poisson sample (Okabe et al. 2000),
 	// plus the hull and the free list
 	est := 68*len(order)/10 + 1024
-	b.r = slices.Grow(b.r, 8*est)
-	b.mark = slices.Grow(b.mark, est)
-	for _, p := range seq {
+	// make, unlike growing with append, need not clear memory fresh from
+	// the operating system
+	b.r = append(make([]int32, 0, 8*est), b.r...)
+	b.mark = append(make([]uint8, 0, est), b.mark...)
+	for p := int32(0); p < int32(len(order)); p++ {
 		if p == first[0] || p == first[1] || p == first[2] || p == first[3] {
 			continue
 		}
@@ -349,33 +354,34 @@ func triangulate(xyz []float64, rep []int32, seed uint64) (*builder, error) {
 }
 
 // initial builds the first tetrahedron and its four infinite neighbours from
-// the earliest points in order that span three dimensions.
-func (b *builder) initial(order []int32) ([4]int32, error) {
+// the earliest of the m vertices (in insertion order) that span three
+// dimensions.
+func (b *builder) initial(m int) ([4]int32, error) {
 	var f [4]int32
-	if len(order) < 2 {
-		return f, &DegenerateError{Distinct: len(order), Dim: 0}
+	if m < 2 {
+		return f, &DegenerateError{Distinct: m, Dim: 0}
 	}
-	f[0], f[1] = order[0], order[1]
+	f[0], f[1] = 0, 1
 	k := 2
-	for ; k < len(order); k++ {
-		if !collinear(b.pt(f[0]), b.pt(f[1]), b.pt(order[k])) {
+	for ; k < m; k++ {
+		if !collinear(b.pt(f[0]), b.pt(f[1]), b.pt(int32(k))) {
 			break
 		}
 	}
-	if k == len(order) {
-		return f, &DegenerateError{Distinct: len(order), Dim: 1}
+	if k == m {
+		return f, &DegenerateError{Distinct: m, Dim: 1}
 	}
-	f[2] = order[k]
+	f[2] = int32(k)
 	o := 0
-	for k = 2; k < len(order); k++ {
-		if o = orient3d(b.pt(f[0]), b.pt(f[1]), b.pt(f[2]), b.pt(order[k])); o != 0 {
+	for k = 2; k < m; k++ {
+		if o = orient3d(b.pt(f[0]), b.pt(f[1]), b.pt(f[2]), b.pt(int32(k))); o != 0 {
 			break
 		}
 	}
-	if k == len(order) {
-		return f, &DegenerateError{Distinct: len(order), Dim: 2}
+	if k == m {
+		return f, &DegenerateError{Distinct: m, Dim: 2}
 	}
-	f[3] = order[k]
+	f[3] = int32(k)
 	if o < 0 {
 		f[0], f[1] = f[1], f[0]
 	}
@@ -447,7 +453,8 @@ func collinear(a, b, c *[3]float64) bool {
 // compact removes the infinite and deleted tetrahedra and renumbers the
 // rest; it returns the finite tetrahedra, their neighbours (−1 across a hull
 // face) and the hull faces, each ordered so that (b−a)×(c−a) points out of
-// the hull.
+// the hull. The tetrahedra and neighbours are two halves of the record
+// array, rearranged in place, so compaction needs no second copy.
 func (b *builder) compact() (tets, nbr, hull []int32) {
 	nt := int32(len(b.r) / 8)
 	b.mark, b.free = nil, nil
@@ -480,25 +487,74 @@ func (b *builder) compact() (tets, nbr, hull []int32) {
 		}
 		return before[w] + int32(bits.OnesCount64(live[w]&(bit-1)))
 	}
-	// The tetrahedra are written in place over the records (index 4r ≤ 8t,
-	// so nothing unread is overwritten), the neighbours to a new slice.
-	nbr = make([]int32, 4*next)
+	// Pass 1: the kept records, renumbered, are moved down in place (record
+	// r goes to 8r ≤ 8t, so nothing unread is overwritten): 4 vertices as
+	// input indices, then 4 neighbours.
 	r := int32(0)
 	for t := int32(0); t < nt; t++ {
 		if live[t>>6]&(1<<(t&63)) == 0 {
 			continue
 		}
-		for i := int32(0); i < 4; i++ {
-			nbr[4*r+i] = remap(b.r[8*t+4+i] >> 2)
+		rec := (*[8]int32)(b.r[8*t : 8*t+8])
+		var out [8]int32
+		for i := 0; i < 4; i++ {
+			out[i] = b.ids[rec[i]]
+			out[4+i] = remap(rec[4+i] >> 2)
 		}
-		for i := int32(0); i < 4; i++ {
-			b.r[4*r+i] = b.ids[b.r[8*t+i]]
-		}
+		*(*[8]int32)(b.r[8*r : 8*r+8]) = out
 		r++
 	}
-	tets = slices.Clip(b.r[:4*next])
+	unshuffle(b.r[:8*next])
+	tets = b.r[: 4*next : 4*next]
+	nbr = b.r[4*next : 8*next : 8*next]
 	b.r = nil
 	return tets, nbr, hull
+}
+
+// unshuffle rearranges in place the blocks of four int32 of a, viewed as
+// B[0], B[1], …, B[2m−1] with len(a) = 8m, into the order B[0], B[2], …,
+// B[2m−2], B[1], B[3], …, B[2m−1]: with a record of vertices and neighbours
+// per tetrahedron, it gives all the vertices, then all the neighbours.
+//
+// Step k = 0, …, m−1 swaps B[k] and B[2k]; since B[2k] is untouched before
+// step k, it brings the k-th even block to slot k. An odd block 2j+1 is
+// carried to slot 2s at every step s equal to its slot, so it ends in the
+// slot (2j+1)·2^e ∈ [m, 2m); a cycle-following permutation then moves it
+// to slot m+j, with a bitmap of the slots already placed.
+func unshuffle(a []int32) {
+	m := len(a) / 8
+	type block = [4]int32
+	blk := func(i int) *block { return (*block)(a[4*i : 4*i+4]) }
+	for k := 1; k < m; k++ {
+		*blk(k), *blk(2 * k) = *blk(2 * k), *blk(k)
+	}
+	// src returns the slot holding the block that belongs in slot d ≥ m.
+	src := func(d int) int {
+		o := 2*(d-m) + 1
+		s := o << max(0, bits.Len(uint(m))-bits.Len(uint(o)))
+		if s < m {
+			s <<= 1
+		}
+		return s
+	}
+	done := make([]uint64, (m+63)/64)
+	for s0 := m; s0 < 2*m; s0++ {
+		if done[(s0-m)>>6]&(1<<((s0-m)&63)) != 0 {
+			continue
+		}
+		tmp := *blk(s0)
+		cur := s0
+		for {
+			done[(cur-m)>>6] |= 1 << ((cur - m) & 63)
+			s := src(cur)
+			if s == s0 {
+				*blk(cur) = tmp
+				break
+			}
+			*blk(cur) = *blk(s)
+			cur = s
+		}
+	}
 }
 
 // vertexTets returns, for each of n vertices, one incident tetrahedron, or
