@@ -90,7 +90,7 @@ func (c *combineFlags) register(fs *pflag.FlagSet) {
 	fs.StringArrayVar(&c.minus, "minus", nil, "subtract another footprint file, e.g. a star mask (repeatable)")
 }
 
-// open opens path and combines it as the flags say, recording every file
+// open opens path and combines it as the flags say, noting every file
 // in the provenance.
 func (c *combineFlags) open(path string, prov *survey.Provenance) (footprint.Footprint, error) {
 	f, err := footprint.Open(path)
