@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"math"
 
+	"github.com/filigree-survey/filigree/internal/parallel"
+
 	"github.com/filigree-survey/filigree/mask/footprint"
 	"github.com/filigree-survey/filigree/mask/healpix"
 )
@@ -190,7 +192,7 @@ func (v *Volume) Distances(dst, ra, dec, r []float64) {
 		panic("edge: Distances slice lengths differ")
 	}
 	tol := v.searchTol()
-	Parallel(len(dst), 1<<12, func(lo, hi int) {
+	parallel.For(len(dst), 1<<12, func(lo, hi int) {
 		for i := lo; i < hi; i++ {
 			ri := r[i]
 			if !(ri >= v.RMin && ri <= v.RMax) || !(v.Footprint.Completeness(ra[i], dec[i]) > 0) {

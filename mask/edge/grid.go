@@ -14,9 +14,8 @@ package edge
 import (
 	"fmt"
 	"math"
-	"runtime"
-	"sync"
-	"sync/atomic"
+
+	"github.com/filigree-survey/filigree/internal/parallel"
 
 	"github.com/filigree-survey/filigree/mask/footprint"
 	"github.com/filigree-survey/filigree/mask/healpix"
@@ -105,7 +104,7 @@ func NewGrid(fp footprint.Footprint, nside int) (*Grid, error) {
 	g.Max = make([]float32, npix)
 	g.State = make([]State, npix)
 	k := int64(sub/nside) * int64(sub/nside)
-	Parallel(npix, 1<<10, func(lo, hi int) {
+	parallel.For(npix, 1<<10, func(lo, hi int) {
 		for p := lo; p < hi; p++ {
 			var mx float64
 			pos, zero := 0, 0
@@ -138,36 +137,3 @@ func NewGrid(fp footprint.Footprint, nside int) (*Grid, error) {
 
 // Covered reports whether pixel p holds footprint (is Mixed or Full).
 func (g *Grid) Covered(p int64) bool { return g.State[p] != Empty }
-
-// Parallel calls body on consecutive chunks [lo, hi) of [0, n), each at most
-// chunk long, from runtime.GOMAXPROCS(0) goroutines. body must write only
-// to its own range of any shared output, so the result does not depend on
-// the number of goroutines.
-func Parallel(n, chunk int, body func(lo, hi int)) {
-	if chunk < 1 {
-		panic("edge: Parallel chunk below 1")
-	}
-	workers := min(runtime.GOMAXPROCS(0), (n+chunk-1)/chunk)
-	if workers <= 1 {
-		for lo := 0; lo < n; lo += chunk {
-			body(lo, min(lo+chunk, n))
-		}
-		return
-	}
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for range workers {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for {
-				lo := int(next.Add(int64(chunk))) - chunk
-				if lo >= n {
-					return
-				}
-				body(lo, min(lo+chunk, n))
-			}
-		}()
-	}
-	wg.Wait()
-}

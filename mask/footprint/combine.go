@@ -6,6 +6,8 @@ import (
 	"math"
 	"sync"
 
+	"github.com/filigree-survey/filigree/internal/parallel"
+
 	"github.com/filigree-survey/filigree/mask/healpix"
 )
 
@@ -154,7 +156,7 @@ func pixelSum(f Footprint, nside int) (area, eff float64) {
 	nch := (npix + manyChunk - 1) / manyChunk
 	cnt := make([]float64, nch)
 	sum := make([]float64, nch)
-	parallel(npix, func(lo, hi int) {
+	parallel.For(npix, manyChunk, func(lo, hi int) {
 		var n, s float64
 		for p := lo; p < hi; p++ {
 			th, ph := healpix.Pix2AngNest(nside, int64(p))

@@ -35,9 +35,9 @@ import (
 	"io"
 	"math"
 	"os"
-	"runtime"
 	"strings"
-	"sync"
+
+	"github.com/filigree-survey/filigree/internal/parallel"
 
 	"github.com/filigree-survey/filigree/mask/region"
 	"github.com/filigree-survey/filigree/survey"
@@ -81,39 +81,7 @@ func CompletenessMany(f Footprint, dst, ra, dec []float64) {
 	if m, ok := f.(*Map); ok {
 		fill = func(lo, hi int) { m.completenessRange(dst[lo:hi], ra[lo:hi], dec[lo:hi]) }
 	}
-	parallel(len(dst), fill)
-}
-
-// parallel calls fill on consecutive chunks of [0, n) from
-// runtime.GOMAXPROCS(0) goroutines.
-func parallel(n int, fill func(lo, hi int)) {
-	workers := min(runtime.GOMAXPROCS(0), (n+manyChunk-1)/manyChunk)
-	if workers <= 1 {
-		fill(0, n)
-		return
-	}
-	var (
-		wg   sync.WaitGroup
-		mu   sync.Mutex
-		next int
-	)
-	for range workers {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for {
-				mu.Lock()
-				lo := next
-				next += manyChunk
-				mu.Unlock()
-				if lo >= n {
-					return
-				}
-				fill(lo, min(lo+manyChunk, n))
-			}
-		}()
-	}
-	wg.Wait()
+	parallel.For(len(dst), manyChunk, fill)
 }
 
 // Open reads the footprint in the file at path, choosing the reader by

@@ -9,6 +9,8 @@ import (
 	"strings"
 	"sync"
 
+	"github.com/filigree-survey/filigree/internal/parallel"
+
 	"github.com/filigree-survey/filigree/mask/healpix"
 	"github.com/filigree-survey/filigree/survey"
 )
@@ -382,7 +384,7 @@ func (m *Map) readImplicit(t *survey.FITSTable, npix int64, toNest func(int64) i
 			// order whatever the scheduling.
 			var mu sync.Mutex
 			bad := int64(-1)
-			parallel(int(n*per), func(lo, hi int) {
+			parallel.For(int(n*per), manyChunk, func(lo, hi int) {
 				for e := int64(lo); e < int64(hi); e++ {
 					r, k := e/per, e%per
 					x, _ := vf.get(b[r*t.RowBytes:(r+1)*t.RowBytes], int(k))

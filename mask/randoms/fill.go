@@ -6,6 +6,8 @@ import (
 	"math"
 	"math/rand/v2"
 
+	"github.com/filigree-survey/filigree/internal/parallel"
+
 	"gonum.org/v1/gonum/stat/distuv"
 
 	"github.com/filigree-survey/filigree/mask/edge"
@@ -163,7 +165,7 @@ func FillParticles(fp footprint.Footprint, opt FillOptions, seed uint64) (*Fill,
 		k       []Kind
 	}
 	parts := make([]part, nChunks)
-	edge.Parallel(npix, fillChunk, func(lo, hi int) {
+	parallel.For(npix, fillChunk, func(lo, hi int) {
 		rng := Stream(seed, uint64(lo/fillChunk))
 		pois := distuv.Poisson{Src: rng}
 		var pt part

@@ -48,6 +48,8 @@ import (
 	"math/rand/v2"
 	"sync/atomic"
 
+	"github.com/filigree-survey/filigree/internal/parallel"
+
 	"github.com/filigree-survey/filigree/cosmo"
 	"github.com/filigree-survey/filigree/mask/edge"
 	"github.com/filigree-survey/filigree/mask/footprint"
@@ -147,7 +149,7 @@ func (s *Sampler) Sample(n int, seed uint64) (ra, dec, z []float64, err error) {
 		r = make([]float64, n)
 	}
 	var failed atomic.Bool
-	edge.Parallel(n, chunk, func(lo, hi int) {
+	parallel.For(n, chunk, func(lo, hi int) {
 		rng := Stream(seed, uint64(lo/chunk))
 		for i := lo; i < hi; i++ {
 			var ok bool

@@ -3,9 +3,9 @@ package region
 import (
 	"fmt"
 	"math"
-	"runtime"
 	"sync"
-	"sync/atomic"
+
+	"github.com/filigree-survey/filigree/internal/parallel"
 )
 
 // Region is a sky footprint: the union of its include shapes minus the
@@ -111,32 +111,9 @@ func (r *Region) CompletenessMany(dst, ra, dec []float64) {
 	if len(dst) != len(ra) || len(dst) != len(dec) {
 		panic("region: CompletenessMany: slice lengths differ")
 	}
-	n := len(dst)
-	chunks := (n + manyChunk - 1) / manyChunk
-	workers := min(runtime.GOMAXPROCS(0), chunks)
-	if workers <= 1 {
-		for i := range dst {
+	parallel.For(len(dst), manyChunk, func(lo, hi int) {
+		for i := lo; i < hi; i++ {
 			dst[i] = r.Completeness(ra[i], dec[i])
 		}
-		return
-	}
-	var next atomic.Int64
-	var wg sync.WaitGroup
-	for w := 0; w < workers; w++ {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for {
-				c := int(next.Add(1) - 1)
-				if c >= chunks {
-					return
-				}
-				lo, hi := c*manyChunk, min((c+1)*manyChunk, n)
-				for i := lo; i < hi; i++ {
-					dst[i] = r.Completeness(ra[i], dec[i])
-				}
-			}
-		}()
-	}
-	wg.Wait()
+	})
 }
