@@ -202,43 +202,56 @@ func fitsOpenFile(f *os.File, path string, opt ReadOptions) (*fitsReader, error)
 }
 
 // fitsNewReader checks a BINTABLE header and builds its column plan.
-func fitsNewReader(f *os.File, path string, h *fitsHeader, size int64, opt ReadOptions) (*fitsReader, error) {
+// fitsTableLayout checks the mandatory keywords of a BINTABLE header h
+// (FITS 4.0 §7.3.1: BITPIX 8, NAXIS 2, GCOUNT 1) and that the data unit,
+// NAXIS1 × NAXIS2 + PCOUNT bytes, fits in a file of size bytes. It returns
+// the row width, row count and number of fields.
+func fitsTableLayout(path string, h *fitsHeader, size int64) (rowsz, nrows, nfields int64, err error) {
 	const limit = int64(1) << 60
-	if b, _ := h.int(path, "BITPIX", true, 0, -64, 64); b != 8 {
-		return nil, h.cardErr(path, h.get("BITPIX"), fmt.Sprintf("a binary table needs BITPIX = 8, found %d", b))
+	if b, err := h.int(path, "BITPIX", true, 0, -64, 64); err != nil {
+		return 0, 0, 0, err
+	} else if b != 8 {
+		return 0, 0, 0, h.cardErr(path, h.get("BITPIX"), fmt.Sprintf("a binary table needs BITPIX = 8, found %d", b))
 	}
-	if n, _ := h.int(path, "NAXIS", true, 0, 0, 999); n != 2 {
-		return nil, h.cardErr(path, h.get("NAXIS"), fmt.Sprintf("a binary table needs NAXIS = 2, found %d", n))
+	if n, err := h.int(path, "NAXIS", true, 0, 0, 999); err != nil {
+		return 0, 0, 0, err
+	} else if n != 2 {
+		return 0, 0, 0, h.cardErr(path, h.get("NAXIS"), fmt.Sprintf("a binary table needs NAXIS = 2, found %d", n))
 	}
-	rowsz, err := h.int(path, "NAXIS1", true, 0, 0, limit)
-	if err != nil {
-		return nil, err
+	if rowsz, err = h.int(path, "NAXIS1", true, 0, 0, limit); err != nil {
+		return 0, 0, 0, err
 	}
-	nrows, err := h.int(path, "NAXIS2", true, 0, 0, limit)
-	if err != nil {
-		return nil, err
+	if nrows, err = h.int(path, "NAXIS2", true, 0, 0, limit); err != nil {
+		return 0, 0, 0, err
 	}
 	pcount, err := h.int(path, "PCOUNT", true, 0, 0, limit)
 	if err != nil {
-		return nil, err
+		return 0, 0, 0, err
 	}
 	if g, err := h.int(path, "GCOUNT", true, 1, 0, limit); err != nil {
-		return nil, err
+		return 0, 0, 0, err
 	} else if g != 1 {
-		return nil, h.cardErr(path, h.get("GCOUNT"), fmt.Sprintf("a binary table needs GCOUNT = 1, found %d", g))
+		return 0, 0, 0, h.cardErr(path, h.get("GCOUNT"), fmt.Sprintf("a binary table needs GCOUNT = 1, found %d", g))
 	}
-	nfields, err := h.int(path, "TFIELDS", true, 0, 0, 999)
-	if err != nil {
-		return nil, err
+	if nfields, err = h.int(path, "TFIELDS", true, 0, 0, 999); err != nil {
+		return 0, 0, 0, err
 	}
 	if rowsz != 0 && nrows > limit/rowsz {
-		return nil, h.cardErr(path, h.get("NAXIS2"), "NAXIS1 × NAXIS2 overflows")
+		return 0, 0, 0, h.cardErr(path, h.get("NAXIS2"), "NAXIS1 × NAXIS2 overflows")
 	}
 	need := rowsz*nrows + pcount
 	if have := size - h.dataOff; need > have {
-		return nil, &InputError{File: path, Byte: h.dataOff,
+		return 0, 0, 0, &InputError{File: path, Byte: h.dataOff,
 			Msg: fmt.Sprintf("HDU %d data unit is truncated: NAXIS1 × NAXIS2 + PCOUNT = %d × %d + %d = %d bytes expected, %d present",
 				h.hdu, rowsz, nrows, pcount, need, max(have, 0))}
+	}
+	return rowsz, nrows, nfields, nil
+}
+
+func fitsNewReader(f *os.File, path string, h *fitsHeader, size int64, opt ReadOptions) (*fitsReader, error) {
+	rowsz, nrows, nfields, err := fitsTableLayout(path, h, size)
+	if err != nil {
+		return nil, err
 	}
 
 	fields := make([]fitsField, 0, nfields)

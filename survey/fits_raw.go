@@ -92,41 +92,9 @@ func OpenFITSTable(path string) (t *FITSTable, err error) {
 
 // fitsNewTable checks the BINTABLE header h and lays out its fields.
 func fitsNewTable(f *os.File, path string, h *fitsHeader, size int64) (*FITSTable, error) {
-	const limit = int64(1) << 60
-	if b, err := h.int(path, "BITPIX", true, 0, -64, 64); err != nil {
-		return nil, err
-	} else if b != 8 {
-		return nil, h.cardErr(path, h.get("BITPIX"), fmt.Sprintf("a binary table needs BITPIX = 8, found %d", b))
-	}
-	if n, err := h.int(path, "NAXIS", true, 0, 0, 999); err != nil {
-		return nil, err
-	} else if n != 2 {
-		return nil, h.cardErr(path, h.get("NAXIS"), fmt.Sprintf("a binary table needs NAXIS = 2, found %d", n))
-	}
-	rowsz, err := h.int(path, "NAXIS1", true, 0, 0, limit)
+	rowsz, nrows, nfields, err := fitsTableLayout(path, h, size)
 	if err != nil {
 		return nil, err
-	}
-	nrows, err := h.int(path, "NAXIS2", true, 0, 0, limit)
-	if err != nil {
-		return nil, err
-	}
-	if g, err := h.int(path, "GCOUNT", true, 1, 0, limit); err != nil {
-		return nil, err
-	} else if g != 1 {
-		return nil, h.cardErr(path, h.get("GCOUNT"), fmt.Sprintf("a binary table needs GCOUNT = 1, found %d", g))
-	}
-	nfields, err := h.int(path, "TFIELDS", true, 0, 0, 999)
-	if err != nil {
-		return nil, err
-	}
-	if rowsz != 0 && nrows > limit/rowsz {
-		return nil, h.cardErr(path, h.get("NAXIS2"), "NAXIS1 × NAXIS2 overflows")
-	}
-	if have := size - h.dataOff; rowsz*nrows > have {
-		return nil, &InputError{File: path, Byte: h.dataOff,
-			Msg: fmt.Sprintf("HDU %d data unit is truncated: NAXIS1 × NAXIS2 = %d × %d = %d bytes expected, %d present",
-				h.hdu, rowsz, nrows, rowsz*nrows, max(have, 0))}
 	}
 	t := &FITSTable{Path: path, HDU: h.hdu, Rows: nrows, RowBytes: rowsz, f: f, h: h}
 	off := int64(0)
