@@ -23,15 +23,18 @@ const (
 	growthStepLog2 = 10
 )
 
-// growthTable holds D, dD/dx and d²D/dx² on nodes x_j = x0 + j h.
+// growthTable holds D, dD/dx and d²D/dx² on nodes x_j = x0 + j h, and the
+// same for the second-order growth factor D2.
 type growthTable struct {
 	x0, h, invH float64
 	n           int       // intervals
 	d           []float64 // D, D', D'' per node (3 per node), normalised D(a=1) = 1
+	d2          []float64 // D2, D2', D2'' per node, in the same normalisation
 }
 
-// growthRHS returns D″ = d²D/d(ln a)² given x = ln a, D and D'.
-func (m *Model) growthRHS(x, d, dp float64) float64 {
+// growthCoeffs returns the coefficients of the growth equation at x = ln a,
+// D″ = −damp D′ + src D, with damp = 2 + dln H/dx and src = (3/2) Ωm(a).
+func (m *Model) growthCoeffs(x float64) (damp, src float64) {
 	a := math.Exp(x)
 	a2 := a * a
 	de := m.ol * m.deDensity(-x) * a2 * a2
@@ -40,7 +43,26 @@ func (m *Model) growthRHS(x, d, dp float64) float64 {
 	de2a4 := -4*m.or - a*(3*m.om+2*a*m.ok) - 3*(1+m.w0+m.wa*(1-a))*de
 	dlnH := 0.5 * de2a4 / e2a4
 	omA := m.om * a / e2a4
-	return -(2+dlnH)*dp + 1.5*omA*d
+	return 2 + dlnH, 1.5 * omA
+}
+
+// growthRHS returns D″ = d²D/d(ln a)² given x = ln a, D and D'.
+func (m *Model) growthRHS(x, d, dp float64) float64 {
+	damp, src := m.growthCoeffs(x)
+	return -damp*dp + src*d
+}
+
+// growth2RHS returns D2″ for the second-order growth factor given x, D2, D2'
+// and the first-order D:
+//
+//	D2″ + (2 + dln H/dx) D2′ − (3/2) Ωm(a) D2 = −(3/2) Ωm(a) D²,
+//
+// the equation for the time dependence of the second-order Lagrangian
+// displacement (Bouchet, Colombi, Hivon & Juszkiewicz 1995, A&A 296, 575,
+// §3; Scoccimarro 1998, MNRAS 299, 1097, eq. A4) written in ln a.
+func (m *Model) growth2RHS(x, d2, dp2, d float64) float64 {
+	damp, src := m.growthCoeffs(x)
+	return -damp*dp2 + src*(d2-d*d)
 }
 
 // growthTab returns the growth table, building it on first use.
@@ -53,41 +75,66 @@ func (m *Model) buildGrowth() *growthTable {
 	x0 := math.Log(growthAInit)
 	n := int(math.Ceil(-x0 * (1 << growthStepLog2)))
 	h := -x0 / float64(n)
-	g := &growthTable{x0: x0, h: h, invH: 1 / h, n: n, d: make([]float64, 3*(n+1))}
+	g := &growthTable{x0: x0, h: h, invH: 1 / h, n: n,
+		d: make([]float64, 3*(n+1)), d2: make([]float64, 3*(n+1))}
 	if m.om == 0 {
-		// No matter: nothing sources growth; D is constant and f = 0.
+		// No matter: nothing sources growth; D is constant, f = 0, D2 = 0.
 		for j := 0; j <= n; j++ {
 			g.d[3*j] = 1
 		}
 		return g
 	}
+	// y = (D, D', D2, D2'). D2 starts on its matter-era growing mode
+	// D2 = −(3/7) D² (Bouchet et al. 1995); the radiation-era mismatch is a
+	// decaying mode like D's.
 	aEq := m.or / m.om
-	d, dp := growthAInit+2*aEq/3, growthAInit
+	d0 := growthAInit + 2*aEq/3
+	y := [4]float64{d0, growthAInit, -3.0 / 7 * d0 * d0, -6.0 / 7 * d0 * growthAInit}
+	rhs := func(x float64, y [4]float64) [4]float64 {
+		damp, src := m.growthCoeffs(x)
+		return [4]float64{y[1], -damp*y[1] + src*y[0], y[3], -damp*y[3] + src*(y[2]-y[0]*y[0])}
+	}
+	step := func(y, k [4]float64, c float64) [4]float64 {
+		for i := range y {
+			y[i] += c * k[i]
+		}
+		return y
+	}
 	for j := 0; ; j++ {
 		x := x0 + float64(j)*h
 		if j == n {
 			x = 0
 		}
-		g.d[3*j], g.d[3*j+1], g.d[3*j+2] = d, dp, m.growthRHS(x, d, dp)
+		f := rhs(x, y)
+		g.d[3*j], g.d[3*j+1], g.d[3*j+2] = y[0], y[1], f[1]
+		g.d2[3*j], g.d2[3*j+1], g.d2[3*j+2] = y[2], y[3], f[3]
 		if j == n {
 			break
 		}
-		k1d, k1v := dp, m.growthRHS(x, d, dp)
-		k2d, k2v := dp+0.5*h*k1v, m.growthRHS(x+0.5*h, d+0.5*h*k1d, dp+0.5*h*k1v)
-		k3d, k3v := dp+0.5*h*k2v, m.growthRHS(x+0.5*h, d+0.5*h*k2d, dp+0.5*h*k2v)
-		k4d, k4v := dp+h*k3v, m.growthRHS(x+h, d+h*k3d, dp+h*k3v)
-		d += h / 6 * (k1d + 2*k2d + 2*k3d + k4d)
-		dp += h / 6 * (k1v + 2*k2v + 2*k3v + k4v)
+		// Classical fourth-order Runge–Kutta.
+		k1 := f
+		k2 := rhs(x+0.5*h, step(y, k1, 0.5*h))
+		k3 := rhs(x+0.5*h, step(y, k2, 0.5*h))
+		k4 := rhs(x+h, step(y, k3, h))
+		for i := range y {
+			y[i] += h / 6 * (k1[i] + 2*k2[i] + 2*k3[i] + k4[i])
+		}
 	}
+	// D → cD turns D2 → c²D2, so D2 scales with the square of D's norm.
 	norm := 1 / g.d[3*n]
 	for i := range g.d {
 		g.d[i] *= norm
+		g.d2[i] *= norm * norm
 	}
 	return g
 }
 
 // at returns the Hermite-interpolated D and D' at x = ln a ∈ [x0, 0].
-func (g *growthTable) at(x float64) (d, dp float64) {
+func (g *growthTable) at(x float64) (d, dp float64) { return g.interp(g.d, x) }
+
+// interp Hermite-interpolates a node array (value, slope, curvature per
+// node) at x = ln a ∈ [x0, 0].
+func (g *growthTable) interp(tab []float64, x float64) (d, dp float64) {
 	s := (x - g.x0) * g.invH
 	j := int(s)
 	if j >= g.n {
@@ -97,7 +144,7 @@ func (g *growthTable) at(x float64) (d, dp float64) {
 		j = 0
 	}
 	u := s - float64(j)
-	p := g.d[3*j : 3*j+6 : 3*j+6]
+	p := tab[3*j : 3*j+6 : 3*j+6]
 	h := g.h
 	// Cubic Hermite for D with slopes D', and for D' with slopes D''.
 	h00 := (1 + 2*u) * (1 - u) * (1 - u)
@@ -134,4 +181,37 @@ func (m *Model) GrowthRate(z float64) float64 {
 	}
 	d, dp := m.growthTab().at(-math.Log1p(z))
 	return dp / d
+}
+
+// SecondOrderGrowth returns the second-order growth factor D2(z) of the
+// Lagrangian displacement, in the normalisation where the first-order D(0) =
+// 1: second-order LPT displacements are Ψ = −D ∇φ1 + D2 ∇φ2 with ∇²φ2 the
+// second-order source built from φ1 (Bouchet et al. 1995; Scoccimarro
+// 1998). D2 is negative, close to −(3/7) D² Ωm(z)^(−1/143) (Bouchet et al.
+// 1995, eq. 29) and exactly −(3/7) D² for Einstein–de Sitter. It solves
+// D2″ + (2 + dln H/dln a) D2′ − (3/2) Ωm(a) D2 = −(3/2) Ωm(a) D² alongside
+// the first-order equation. Zero without matter; NaN for z outside [0,
+// MaxRedshift].
+func (m *Model) SecondOrderGrowth(z float64) float64 {
+	if !validZ(z) {
+		return math.NaN()
+	}
+	g := m.growthTab()
+	d2, _ := g.interp(g.d2, -math.Log1p(z))
+	return d2
+}
+
+// SecondOrderGrowthRate returns f2 = dln D2/dln a, close to 2 Ωm(z)^(6/11)
+// (Bouchet et al. 1995, eq. 30) and exactly 2 for Einstein–de Sitter. Zero
+// without matter; NaN for z outside [0, MaxRedshift].
+func (m *Model) SecondOrderGrowthRate(z float64) float64 {
+	if !validZ(z) {
+		return math.NaN()
+	}
+	g := m.growthTab()
+	d2, dp2 := g.interp(g.d2, -math.Log1p(z))
+	if d2 == 0 {
+		return 0
+	}
+	return dp2 / d2
 }
