@@ -98,7 +98,7 @@ func (lp *LinearPower) setupEH98(om, ob, h, tcmb float64) {
 	b1 := 0.313 * math.Pow(omh2, -0.419) * (1 + 0.607*math.Pow(omh2, 0.674))
 	b2 := 0.238 * math.Pow(omh2, 0.223)
 	lp.zd = 1291 * math.Pow(omh2, 0.251) / (1 + 0.659*math.Pow(omh2, 0.828)) * (1 + b1*math.Pow(obh2, b2)) // eq. 4
-	r := func(z float64) float64 { return 31.5 * obh2 / (t2 * t2) * (1000 / z) }                          // eq. 5
+	r := func(z float64) float64 { return 31.5 * obh2 / (t2 * t2) * (1000 / z) }                           // eq. 5
 	req, rd := r(lp.zeq), r(lp.zd)
 	lp.s = 2 / (3 * lp.keq) * math.Sqrt(6/req) *
 		math.Log((math.Sqrt(1+rd)+math.Sqrt(rd+req))/(1+math.Sqrt(req))) // eq. 6
