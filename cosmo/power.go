@@ -55,13 +55,13 @@ func (m *Model) LinearPower(opt PowerOptions) (*LinearPower, error) {
 	p := m.p
 	var miss []string
 	if !(p.OmegaB > 0) {
-		miss = append(miss, "Ωb (--omega-b)")
+		miss = append(miss, "Ωb")
 	}
 	if !(p.Ns > 0) {
-		miss = append(miss, "n_s (--ns)")
+		miss = append(miss, "n_s")
 	}
 	if !(p.Sigma8 > 0) {
-		miss = append(miss, "σ8 (--sigma8)")
+		miss = append(miss, "σ8")
 	}
 	if len(miss) > 0 {
 		return nil, fmt.Errorf("cosmo: the linear power spectrum needs %v; the model %q has none", miss, m.p.Name)
