@@ -18,6 +18,18 @@ type cosmoFlags struct {
 	fs                               *pflag.FlagSet
 	preset                           string
 	h0, om, ok, ol, w0, wa, tc, neff float64
+	ob, ns, s8                       float64
+	power                            bool // registerPower was called
+}
+
+// registerPower adds the parameters that only the linear power spectrum
+// uses (commands that draw initial conditions): Ωb, n_s and σ8. They
+// override the preset's values and never switch to explicit mode.
+func (c *cosmoFlags) registerPower(fs *pflag.FlagSet) {
+	c.power = true
+	fs.Float64Var(&c.ob, "omega-b", 0, "baryon density Ωb today (default: the preset's)")
+	fs.Float64Var(&c.ns, "ns", 0, "primordial spectral index n_s (default: the preset's)")
+	fs.Float64Var(&c.s8, "sigma8", 0, "rms linear density fluctuation in 8 Mpc/h spheres today (default: the preset's)")
 }
 
 func (c *cosmoFlags) register(fs *pflag.FlagSet) {
@@ -85,6 +97,16 @@ func (c *cosmoFlags) model() (*cosmo.Model, error) {
 	set("wa", &p.Wa, c.wa)
 	set("tcmb", &p.TCMB, c.tc)
 	set("neff", &p.Neff, c.neff)
+	if c.power {
+		for _, n := range []string{"omega-b", "ns", "sigma8"} {
+			if c.fs.Changed(n) && !strings.HasSuffix(p.Name, "custom") {
+				p.Name += "+custom"
+			}
+		}
+		set("omega-b", &p.OmegaB, c.ob)
+		set("ns", &p.Ns, c.ns)
+		set("sigma8", &p.Sigma8, c.s8)
+	}
 	m, err := cosmo.New(p)
 	if err != nil {
 		return nil, fmt.Errorf("cosmology: %w", err)

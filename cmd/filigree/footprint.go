@@ -43,7 +43,7 @@ MOC in FITS, or a region file (see the README for the region format).`,
 		flags: func(a *app, fs *pflag.FlagSet) {
 			cols.register(fs)
 			fs.StringVarP(&out, "output", "o", "", "output catalogue (apply)")
-			fs.BoolVar(&weights, "weights", false, "apply: also add comov_dist, weight (1/(completeness × n̄)) and edge_dist; n(z) from --nz, --like, or this catalogue")
+			fs.BoolVar(&weights, "weights", false, "apply: also add comov_dist, cart_x/y/z, weight (1/(completeness × n̄)) and edge_dist; n(z) from --nz, --like, or this catalogue")
 			comb.register(fs)
 			nzf.register(fs)
 			cf.register(fs)
@@ -246,7 +246,7 @@ func mergeMeta(in, prov survey.Meta) survey.Meta {
 	return append(out, prov...)
 }
 
-// addWeights adds comov_dist, weight and edge_dist to t (whose rows are
+// addWeights adds comov_dist, cart_x/y/z, weight and edge_dist to t (whose rows are
 // pos): the mass weight 1/(completeness × n̄(z)) × the user weight, with
 // n̄ from the n(z) options or estimated from the galaxies inside the
 // footprint, and the distance to the nearest boundary of the surveyed
@@ -313,7 +313,21 @@ func addWeights(a *app, t *survey.Table, pos *survey.Positions, comp []float64, 
 	ed.F, ed.Unit, ed.Desc = make([]float64, n), "Mpc/h", "distance to the nearest boundary of the surveyed volume (0 outside)"
 	vol.Distances(ed.F, pos.RA, pos.Dec, dist.F)
 	a.note("edge_dist: radial limits %.1f–%.1f Mpc/h from the n(z) range; error at most %.2f Mpc/h at %.0f Mpc/h", rmin, rmax, vol.ErrorBound(rmax), rmax)
-	for _, c := range []*survey.Column{dist, w, ed} {
+	// Equatorial Cartesian positions, observer at the origin (design
+	// conventions: x toward RA 0, Dec 0; z to the north celestial pole).
+	var cart [3]*survey.Column
+	for i, ax := range []string{"x", "y", "z"} {
+		cart[i] = survey.NewColumn("cart_"+ax, survey.Float64, n)
+		cart[i].F, cart[i].Unit, cart[i].Desc = make([]float64, n), "Mpc/h", "equatorial Cartesian position, observer at the origin"
+	}
+	for i := range n {
+		ra, dec := pos.RA[i]*math.Pi/180, pos.Dec[i]*math.Pi/180
+		r := dist.F[i]
+		cart[0].F[i] = r * math.Cos(dec) * math.Cos(ra)
+		cart[1].F[i] = r * math.Cos(dec) * math.Sin(ra)
+		cart[2].F[i] = r * math.Sin(dec)
+	}
+	for _, c := range []*survey.Column{dist, cart[0], cart[1], cart[2], w, ed} {
 		if t.Col(c.Name) != nil {
 			return fmt.Errorf("the catalogue already has a column %q; rename it first", c.Name)
 		}
