@@ -313,3 +313,49 @@ func (m *Model) KeyValues() [][2]string {
 		{"Omega_nu", f(m.onu)},
 	}
 }
+
+// ParamsFromKeyValues rebuilds the parameters of a model from the pairs
+// written by KeyValues (as recorded in the provenance of output files), so
+// that New(p) gives the same model. Unknown keys and the derived Omega_gamma
+// and Omega_nu are ignored; a missing or malformed key is an error naming
+// it.
+func ParamsFromKeyValues(kv [][2]string) (Params, error) {
+	get := map[string]string{}
+	for _, p := range kv {
+		get[p[0]] = p[1]
+	}
+	var p Params
+	num := func(key string, dst *float64) error {
+		s, ok := get[key]
+		if !ok {
+			return fmt.Errorf("cosmo: the recorded cosmology has no %s", key)
+		}
+		v, err := strconv.ParseFloat(s, 64)
+		if err != nil {
+			return fmt.Errorf("cosmo: the recorded %s = %q is not a number", key, s)
+		}
+		*dst = v
+		return nil
+	}
+	p.Name = get["name"]
+	for _, f := range []struct {
+		key string
+		dst *float64
+	}{
+		{"H0", &p.H0}, {"Omega_m", &p.OmegaM}, {"Omega_k", &p.OmegaK}, {"Omega_L", &p.OmegaL},
+		{"w0", &p.W0}, {"wa", &p.Wa}, {"T_CMB", &p.TCMB}, {"N_eff", &p.Neff},
+		{"Omega_b", &p.OmegaB}, {"n_s", &p.Ns}, {"sigma8", &p.Sigma8},
+	} {
+		if err := num(f.key, f.dst); err != nil {
+			return Params{}, err
+		}
+	}
+	switch get["input"] {
+	case "Omega_L":
+		p.FixOmegaL = true
+	case "Omega_k", "":
+	default:
+		return Params{}, fmt.Errorf("cosmo: the recorded input = %q is neither Omega_k nor Omega_L", get["input"])
+	}
+	return p, nil
+}

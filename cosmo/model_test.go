@@ -253,3 +253,29 @@ func TestGaussLegendre(t *testing.T) {
 		t.Errorf("Runge integrand: %.17g, want %.17g", got, 2*math.Atan(100)/100)
 	}
 }
+
+// TestParamsFromKeyValues checks that a model rebuilt from its recorded
+// key-value pairs has the same parameters and the same distances.
+func TestParamsFromKeyValues(t *testing.T) {
+	for _, name := range PresetNames() {
+		p, _ := Preset(name)
+		m, err := New(p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		q, err := ParamsFromKeyValues(m.KeyValues())
+		if err != nil {
+			t.Fatal(err)
+		}
+		m2, err := New(q)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if m.ComovingDistance(1) != m2.ComovingDistance(1) || m.Params().Sigma8 != m2.Params().Sigma8 {
+			t.Errorf("%s: rebuilt model differs: %v vs %v", name, m.ComovingDistance(1), m2.ComovingDistance(1))
+		}
+	}
+	if _, err := ParamsFromKeyValues([][2]string{{"H0", "70"}}); err == nil {
+		t.Error("incomplete record accepted")
+	}
+}
