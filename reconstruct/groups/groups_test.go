@@ -123,7 +123,7 @@ func TestMeasure(t *testing.T) {
 	m := make([]int32, n)
 	for i := range ra {
 		ra[i], dec[i] = 180+rng.NormFloat64()*0.1, 5+rng.NormFloat64()*0.1
-		z[i] = 0.05 + 0.05*0 + rng.NormFloat64()*500*1.05/299792.458
+		z[i] = 0.05 + rng.NormFloat64()*500*1.05/299792.458 // σ_v = 500 km/s at 1+z̄ = 1.05
 		r[i] = 150 + rng.NormFloat64()*5
 		m[i] = int32(i)
 	}
