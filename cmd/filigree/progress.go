@@ -117,3 +117,14 @@ func (p *Progress) draw(force bool) {
 	}
 	p.visible = true
 }
+
+// enabled reports whether the reporter draws (stderr is a terminal and
+// --quiet is off); otherwise commands print a one-line log per step.
+func (p *Progress) enabled() bool {
+	if p == nil {
+		return false
+	}
+	p.mu.Lock()
+	defer p.mu.Unlock()
+	return p.on
+}
