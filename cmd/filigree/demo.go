@@ -141,10 +141,18 @@ func runDemo(a *app, dir string, rebuild bool) error {
 	}
 	weighted := filepath.Join(dir, "lanternfish-weighted.fits")
 	randomsPath := filepath.Join(dir, "lanternfish-randoms.fits")
+	webPath := filepath.Join(dir, "lanternfish-web.fits")
+	fieldsPath := filepath.Join(dir, "lanternfish-fields.fits")
+	groupsPath := filepath.Join(dir, "lanternfish-groups.fits")
+	plotsDir := filepath.Join(dir, "plots")
+	reportPath := filepath.Join(dir, "report.html")
 	steps = append(steps,
 		[]string{"footprint", "apply", mapPath, mockPath, "--weights", "-o", weighted, "--summary", filepath.Join(dir, "weights-summary.json")},
 		[]string{"randoms", mocPath, "--like", mockPath, "-n", "500000", "--seed", "2026", "-o", randomsPath, "--summary", filepath.Join(dir, "randoms-summary.json")},
-		[]string{"tessellate", weighted, "--xyz-cols", "cart_x,cart_y,cart_z", "--summary", filepath.Join(dir, "tessellate-summary.json")},
+		[]string{"run", mockPath, "--footprint", regPath, "--bias", "1.3", "-o", webPath, "--fields", fieldsPath,
+			"--groups", groupsPath, "--plots", plotsDir, "--summary", filepath.Join(dir, "run-summary.json")},
+		[]string{"report", webPath, "--fields", fieldsPath, "--run-summary", filepath.Join(dir, "run-summary.json"),
+			"--footprint", mapPath, "-o", reportPath},
 	)
 	for i, st := range steps {
 		argv := append([]string{"filigree"}, st...)
@@ -167,12 +175,18 @@ func runDemo(a *app, dir string, rebuild bool) error {
 	made = append(made,
 		demoFile{mockPath, "the mock survey: id, ra, dec, z and the truth (true_x.., true_lagr_x.., true_vpec_los, true_z_cosmo)"},
 		demoFile{weighted, "the mock with comov_dist, cart_x/y/z, weight and edge_dist"},
-		demoFile{randomsPath, "500000 randoms following the MOC footprint and the mock's n(z)"})
+		demoFile{randomsPath, "500000 randoms following the MOC footprint and the mock's n(z)"},
+		demoFile{webPath, "every galaxy with dtfe_density, delta, tidal_l1..3, web_tidal, group_id, vpec_los, z_cosmo, edge_dist, flags"},
+		demoFile{fieldsPath, "the gridded fields (smoothed δ, tidal eigenvalues, web code) as FITS cubes"},
+		demoFile{groupsPath, "the friends-of-friends group catalogue (redshift space)"},
+		demoFile{plotsDir, "figures: wedge, slice, sky, n(z), fractions, density (PNG)"},
+		demoFile{reportPath, "the run report: one self-contained HTML page"})
 	fmt.Fprintf(a.stdout, "demo finished in %.1f s; files in %s:\n", time.Since(t0).Seconds(), dir)
 	for _, f := range made {
 		fmt.Fprintf(a.stdout, "  %-48s %s\n", f.path, f.what)
 	}
 	fmt.Fprintf(a.stdout, "  %-48s %s\n", filepath.Join(dir, "*-summary.json"), "machine-readable summaries of each step")
 	fmt.Fprintln(a.stdout, "Caution: the footprint, the survey and its galaxies are invented; they show the tool, not the sky.")
+	fmt.Fprintln(a.stdout, "Caution: web labels depend on the smoothing scale, the threshold and the tracer density; galaxies near the edges and holes are flagged (see run-summary.json).")
 	return nil
 }
