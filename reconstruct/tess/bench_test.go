@@ -2,6 +2,7 @@ package tess
 
 import (
 	"math/rand/v2"
+	"os"
 	"runtime"
 	"testing"
 )
@@ -55,6 +56,18 @@ func benchNew(b *testing.B, xyz []float64) {
 
 func BenchmarkTessellate1M(b *testing.B) {
 	benchNew(b, randomPoints(1000000, 1, 100))
+}
+
+// BenchmarkTessellate10M times 10^7 uniform points; it needs about 3 GB
+// and a minute, so it runs only with FILIGREE_BENCH_10M=1 in the
+// environment. Peak memory of the whole process:
+//
+//	FILIGREE_BENCH_10M=1 /usr/bin/time -v go test ./reconstruct/tess -run XXX -bench 'Tessellate10M$' -benchtime 1x
+func BenchmarkTessellate10M(b *testing.B) {
+	if os.Getenv("FILIGREE_BENCH_10M") != "1" {
+		b.Skip("set FILIGREE_BENCH_10M=1 to run")
+	}
+	benchNew(b, randomPoints(10000000, 1, 100))
 }
 
 func BenchmarkTessellateClustered(b *testing.B) {

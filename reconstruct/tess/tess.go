@@ -6,7 +6,9 @@
 //
 // The construction is incremental insertion (Bowyer 1981; Watson 1981) in a
 // biased randomised insertion order (Amenta, Choi & Rote 2003) whose rounds
-// are sorted along a Hilbert curve, with point location by a visibility walk.
+// are sorted along a Hilbert curve, with point location by a visibility walk;
+// the large rounds are split between two workers along the curve, in a
+// way whose result does not depend on the scheduling.
 // The predicates are Shewchuk's (1997) filtered orient3d and insphere with an
 // exact fallback, and exact ties are broken by a symbolic perturbation
 // (Edelsbrunner & Mücke 1990; Devillers & Teillaud 2003), so degenerate input
@@ -20,8 +22,9 @@ import (
 	"math/bits"
 	"math/rand/v2"
 	"runtime"
-	"slices"
 	"sync"
+
+	par "github.com/filigree-survey/filigree/internal/parallel"
 )
 
 // Options sets up a tessellation.
@@ -38,6 +41,9 @@ type Options struct {
 	L float64
 	// Threads is the number of goroutines used by the volume queries; zero
 	// or less means runtime.GOMAXPROCS(0). Results do not depend on it.
+	// The construction itself always splits its large insertion rounds
+	// between two workers, and does its other parallel loops with
+	// internal/parallel; its result does not depend on Threads either.
 	Threads int
 }
 
@@ -211,8 +217,11 @@ func mix64(h uint64) uint64 {
 // so on, and the points of each round are sorted along a 3-D Hilbert curve
 // over the bounding box, so that consecutive insertions are close in space
 // while the rounds keep the randomisation that bounds the expected work.
-func insertionOrder(xyz []float64, rep []int32, seed uint64) []int32 {
-	lo := [3]float64{math.Inf(1), math.Inf(1), math.Inf(1)}
+//
+// It also returns the sort keys, in the same order: the round in the bits
+// from hilbertBits up, the Hilbert index below.
+func insertionOrder(xyz []float64, rep []int32, seed uint64) ([]int32, []uint64) {
+	lo3 := [3]float64{math.Inf(1), math.Inf(1), math.Inf(1)}
 	hi := [3]float64{math.Inf(-1), math.Inf(-1), math.Inf(-1)}
 	m := 0
 	for i, r := range rep {
@@ -221,7 +230,7 @@ func insertionOrder(xyz []float64, rep []int32, seed uint64) []int32 {
 		}
 		m++
 		for k := 0; k < 3; k++ {
-			lo[k] = math.Min(lo[k], xyz[3*i+k])
+			lo3[k] = math.Min(lo3[k], xyz[3*i+k])
 			hi[k] = math.Max(hi[k], xyz[3*i+k])
 		}
 	}
@@ -229,18 +238,18 @@ func insertionOrder(xyz []float64, rep []int32, seed uint64) []int32 {
 	for (m >> rounds) > 64 {
 		rounds++
 	}
-	const hb = 19 // Hilbert bits per axis
+	const hb = hilbertBits / 3
 	var scale [3]float64
 	for k := 0; k < 3; k++ {
-		if hi[k] > lo[k] {
-			scale[k] = (1<<hb - 1) / (hi[k] - lo[k])
+		if hi[k] > lo3[k] {
+			scale[k] = (1<<hb - 1) / (hi[k] - lo3[k])
 		}
 	}
-	type item struct {
-		key uint64
-		idx int32
-	}
-	items := make([]item, 0, m)
+	// The rounds come from one random stream, in input order; the Hilbert
+	// keys, the costly part, are computed in parallel (each chunk writes
+	// only its own keys, so the result does not depend on the threads).
+	idx := make([]int32, 0, m)
+	keys := make([]uint64, m)
 	rng := rand.New(rand.NewPCG(seed, 0x5eed5eed5eed5eed))
 	for i, r := range rep {
 		if int(r) != i {
@@ -251,28 +260,65 @@ func insertionOrder(xyz []float64, rep []int32, seed uint64) []int32 {
 		for u := rng.Uint64(); u&1 == 1 && z < rounds; u >>= 1 {
 			z++
 		}
-		round := uint64(rounds - z)
-		var c [3]uint32
-		for k := 0; k < 3; k++ {
-			c[k] = uint32((xyz[3*i+k] - lo[k]) * scale[k])
-		}
-		items = append(items, item{round<<(3*hb) | hilbert3(c, hb), int32(i)})
+		keys[len(idx)] = uint64(rounds-z) << (3 * hb)
+		idx = append(idx, int32(i))
 	}
-	slices.SortFunc(items, func(a, b item) int {
-		if a.key != b.key {
-			if a.key < b.key {
-				return -1
+	par.For(m, 1<<14, func(lo, hi int) {
+		for j := lo; j < hi; j++ {
+			i := int(idx[j])
+			var c [3]uint32
+			for k := 0; k < 3; k++ {
+				c[k] = uint32((xyz[3*i+k] - lo3[k]) * scale[k])
 			}
-			return 1
+			keys[j] |= hilbert3(c, hb)
 		}
-		return int(a.idx - b.idx)
 	})
-	order := make([]int32, m)
-	for i, it := range items {
-		order[i] = it.idx
-	}
-	return order
+	// Sorting by key, ties in input order: the LSD radix sort is stable,
+	// and idx is in input order.
+	radixSort(keys, idx, bits.Len64(uint64(rounds))+3*hb)
+	return idx, keys
 }
+
+// radixSort sorts keys, whose values are below 2^nbits, in increasing
+// order and permutes vals with them: a stable least-significant-digit
+// radix sort with 11-bit digits (Knuth, TAOCP vol. 3, section 5.2.5), in
+// O(n·nbits/11) time and one scratch copy of each slice.
+func radixSort(keys []uint64, vals []int32, nbits int) {
+	const digit = 11
+	n := len(keys)
+	k2, v2 := make([]uint64, n), make([]int32, n)
+	var count [1 << digit]int
+	for shift := 0; shift < nbits; shift += digit {
+		clear(count[:])
+		for _, k := range keys {
+			count[k>>shift&(1<<digit-1)]++
+		}
+		sum := 0
+		for d, c := range count {
+			count[d] = sum
+			sum += c
+		}
+		for j, k := range keys {
+			d := k >> shift & (1<<digit - 1)
+			k2[count[d]] = k
+			v2[count[d]] = vals[j]
+			count[d]++
+		}
+		keys, k2 = k2, keys
+		vals, v2 = v2, vals
+	}
+	// after an odd number of passes the sorted data is in the scratch
+	// copies
+	if (nbits+digit-1)/digit%2 == 1 {
+		copy(k2, keys)
+		copy(v2, vals)
+	}
+}
+
+// hilbertBits is the number of bits of the Hilbert index of the insertion
+// order: 19 per axis, a grid fine enough that few distinct points share a
+// cell.
+const hilbertBits = 57
 
 // hilbert3 returns the position along the 3-D Hilbert curve of the cell c
 // of a 2^nbits grid, by J. Skilling, "Programming the Hilbert curve", AIP
@@ -320,7 +366,18 @@ func spread3(x uint32) uint64 {
 // triangulate builds the Delaunay tessellation, with its infinite
 // tetrahedra, of the representative points (rep[i] == i).
 func triangulate(xyz []float64, rep []int32, seed uint64) (*builder, error) {
-	order := insertionOrder(xyz, rep, seed)
+	return triangulateMode(xyz, rep, seed, buildMode{})
+}
+
+// buildMode switches off optional parts of the construction, for the
+// tests that compare the results with and without them.
+type buildMode struct {
+	noReorder, noParallel bool
+}
+
+// triangulateMode is triangulate with the parts mode switches off.
+func triangulateMode(xyz []float64, rep []int32, seed uint64, mode buildMode) (*builder, error) {
+	order, keys := insertionOrder(xyz, rep, seed)
 	// Internally the vertices are numbered in insertion order, with their
 	// coordinates copied in that order: consecutive insertions are close
 	// along the Hilbert curve, so the coordinates they read are close in
@@ -335,19 +392,35 @@ func triangulate(xyz []float64, rep []int32, seed uint64) (*builder, error) {
 		return nil, err
 	}
 	// 6.77 tetrahedra per point in a Poisson sample (Okabe et al. 2000),
-	// plus the hull and the free list
+	// plus the hull
 	est := 68*len(order)/10 + 1024
 	// make, unlike growing with append, need not clear memory fresh from
 	// the operating system
 	b.r = append(make([]int32, 0, 8*est), b.r...)
 	b.mark = append(make([]uint8, 0, est), b.mark...)
-	for p := int32(0); p < int32(len(order)); p++ {
-		if p == first[0] || p == first[1] || p == first[2] || p == first[3] {
-			continue
+	isFirst := func(p int32) bool {
+		return p == first[0] || p == first[1] || p == first[2] || p == first[3]
+	}
+	n := int32(len(order))
+	for p := int32(0); p < n; {
+		// the round of p is [p, q)
+		q := p + 1
+		for q < n && keys[q]>>hilbertBits == keys[p]>>hilbertBits {
+			q++
 		}
-		if err := b.insert(p); err != nil {
+		if p > 0 && !mode.noReorder {
+			b.reorder(keys)
+		}
+		var err error
+		if q-p >= parallelMin && !mode.noParallel {
+			err = b.insertParallel(p, q, keys, isFirst)
+		} else {
+			err = b.insertRange(p, q, isFirst)
+		}
+		if err != nil {
 			return nil, err
 		}
+		p = q
 	}
 	b.pts = nil
 	return b, nil
@@ -458,27 +531,38 @@ func collinear(a, b, c *[3]float64) bool {
 func (b *builder) compact() (tets, nbr, hull []int32) {
 	nt := int32(len(b.r) / 8)
 	b.mark, b.free = nil, nil
+	r, ids := b.r, b.ids
 	// The new index of a kept tetrahedron is the number of kept ones before
 	// it: a bitmap with a running count per 64-bit word gives it without a
-	// T-long index array.
+	// T-long index array. A tetrahedron is kept when it is neither dead
+	// nor infinite, that is when none of its vertices is negative.
 	live := make([]uint64, (nt+63)/64)
-	for t := int32(0); t < nt; t++ {
-		v := b.r[8*t : 8*t+4]
-		if v[0] == dead {
-			continue
+	par.For(len(live), 1024, func(lo, hi int) {
+		for w := lo; w < hi; w++ {
+			var bitsW uint64
+			for t := int32(64 * w); t < min(int32(64*w+64), nt); t++ {
+				v := (*[4]int32)(r[8*t : 8*t+4])
+				if v[0]|v[1]|v[2]|v[3] >= 0 {
+					bitsW |= 1 << (t & 63)
+				}
+			}
+			live[w] = bitsW
 		}
-		if i := b.infPos(t); i >= 0 {
-			f := faceIdx[i]
-			hull = append(hull, b.ids[v[f[0]]], b.ids[v[f[1]]], b.ids[v[f[2]]])
-			continue
-		}
-		live[t>>6] |= 1 << (t & 63)
-	}
+	})
 	before := make([]int32, len(live))
 	next := int32(0)
 	for w, bitsW := range live {
 		before[w] = next
 		next += int32(bits.OnesCount64(bitsW))
+		for free := ^bitsW; free != 0; free &= free - 1 {
+			t := int32(64*w + bits.TrailingZeros64(free))
+			if t >= nt || r[8*t] == dead {
+				continue
+			}
+			i := b.infPos(t)
+			v, f := r[8*t:8*t+4], faceIdx[i]
+			hull = append(hull, ids[v[f[0]]], ids[v[f[1]]], ids[v[f[2]]])
+		}
 	}
 	remap := func(t int32) int32 {
 		w, bit := t>>6, uint64(1)<<(t&63)
@@ -487,22 +571,39 @@ func (b *builder) compact() (tets, nbr, hull []int32) {
 		}
 		return before[w] + int32(bits.OnesCount64(live[w]&(bit-1)))
 	}
-	// Pass 1: the kept records, renumbered, are moved down in place (record
-	// r goes to 8r ≤ 8t, so nothing unread is overwritten): 4 vertices as
-	// input indices, then 4 neighbours.
-	r := int32(0)
-	for t := int32(0); t < nt; t++ {
-		if live[t>>6]&(1<<(t&63)) == 0 {
-			continue
+	// Pass 1, in parallel: each kept record is rewritten where it is, with
+	// 4 vertices as input indices, then 4 renumbered neighbours.
+	par.For(len(live), 1024, func(lo, hi int) {
+		for w := lo; w < hi; w++ {
+			for bw := live[w]; bw != 0; bw &= bw - 1 {
+				t := 64*w + bits.TrailingZeros64(bw)
+				rec := (*[8]int32)(r[8*t : 8*t+8])
+				var out [8]int32
+				for i := 0; i < 4; i++ {
+					out[i] = ids[rec[i]]
+					out[4+i] = remap(rec[4+i] >> 2)
+				}
+				*rec = out
+			}
 		}
-		rec := (*[8]int32)(b.r[8*t : 8*t+8])
-		var out [8]int32
-		for i := 0; i < 4; i++ {
-			out[i] = b.ids[rec[i]]
-			out[4+i] = remap(rec[4+i] >> 2)
+	})
+	// Pass 2: the kept records are moved down, a run of consecutive ones
+	// at a time (record k goes to k ≤ t, so nothing unread is
+	// overwritten).
+	dst := 0
+	for w, bw := range live {
+		for bw != 0 {
+			s := bits.TrailingZeros64(bw)
+			l := min(bits.TrailingZeros64(^(bw >> s)), 64-s)
+			t := 64*w + s
+			copy(r[8*dst:], r[8*t:8*(t+l)])
+			dst += l
+			if l == 64 {
+				bw = 0
+			} else {
+				bw &^= (1<<l - 1) << s
+			}
 		}
-		*(*[8]int32)(b.r[8*r : 8*r+8]) = out
-		r++
 	}
 	unshuffle(b.r[:8*next])
 	tets = b.r[: 4*next : 4*next]
