@@ -61,3 +61,51 @@ func BenchmarkIndex1M(b *testing.B) {
 		}
 	}
 }
+
+// BenchmarkLaguerre1MWarm times Index.Compute with Options.WarmStart for the
+// points of BenchmarkLaguerre1M, alternating between two weight vectors
+// that differ by uniform ±0.01 s², so every call starts from the neighbour
+// lists of slightly different weights (a late transport-solver step).
+func BenchmarkLaguerre1MWarm(b *testing.B) { benchWarm(b, 1000000) }
+
+// BenchmarkLaguerre100kWarm: BenchmarkLaguerre1MWarm for 10^5 points.
+func BenchmarkLaguerre100kWarm(b *testing.B) { benchWarm(b, 100000) }
+
+func benchWarm(b *testing.B, n int) {
+	opt := unitBox(true)
+	opt.WarmStart = true
+	xyz := randomPoints(n, 21, opt.Lo, opt.Hi)
+	s := math.Cbrt(1.0 / float64(n))
+	psi := [2][]float64{randomWeights(n, 22, 0.1*s*s), randomWeights(n, 23, 0.01*s*s)}
+	for i := range psi[1] {
+		psi[1][i] += psi[0][i]
+	}
+	ix, err := NewIndex(xyz, opt)
+	if err != nil {
+		b.Fatal(err)
+	}
+	var out Cells
+	if err := ix.Compute(psi[0], &out); err != nil {
+		b.Fatal(err)
+	}
+	b.ReportAllocs()
+	for _, w := range out.workers {
+		w.p.calls, w.p.cuts = 0, 0
+	}
+	runs, k := 0, 1
+	for b.Loop() {
+		runs++
+		if err := ix.Compute(psi[k], &out); err != nil {
+			b.Fatal(err)
+		}
+		k ^= 1
+	}
+	b.StopTimer()
+	calls, cuts := 0, 0
+	for _, w := range out.workers {
+		calls += w.p.calls
+		cuts += w.p.cuts
+	}
+	b.ReportMetric(float64(calls)/float64(runs*n), "planes/cell")
+	b.ReportMetric(float64(cuts)/float64(runs*n), "cuts/cell")
+}

@@ -45,7 +45,10 @@ type Cells struct {
 	Empty int
 
 	psi     []float64 // weights in grid order
+	filled  *Index    // the Index that last filled the cells without error
 	chunks  []chunkBuf
+	wcur    []warmBuf // neighbour lists by sorted position, written (WarmStart)
+	wprev   []warmBuf // the same from the previous call, read (WarmStart)
 	workers []*worker
 }
 
@@ -63,9 +66,15 @@ const chunkSize = 256
 
 type chunkBuf struct {
 	cnt   []int32 // neighbours per cell of the chunk
-	nbr   []int32
+	nbr   []int32 // neighbours by original index
 	area  []float64
 	empty int
+}
+
+// warmBuf holds the neighbour lists of a chunk by sorted position, for
+// Options.WarmStart: cnt per cell and the concatenated lists nq.
+type warmBuf struct {
+	cnt, nq []int32
 }
 
 type worker struct {
@@ -77,6 +86,12 @@ type worker struct {
 	pairs []nbrArea
 	cands []cand
 	keys  []candKey
+
+	// warm start: mark[q2] == stamp for the points at sorted position q2
+	// whose bisector (nearest image) was cut first in the current cell
+	mark  []uint32
+	stamp uint32
+	warm  []candKey
 }
 
 // candKey is a candidate's plane distance t from p_i and its index in
@@ -94,7 +109,8 @@ type cand struct {
 }
 
 type nbrArea struct {
-	j int32
+	j int32 // original index
+	q int32 // sorted position
 	a float64
 }
 
@@ -119,7 +135,9 @@ func Compute(xyz, psi []float64, opt Options, out *Cells) error {
 // and is cut by the power bisectors of the other points in order of
 // increasing grid distance until no remaining point can reach it. A point
 // coinciding with another of larger weight, or of equal weight and lower
-// index, has an empty cell.
+// index, has an empty cell. With Options.WarmStart, and out last filled by
+// ix, each cell is first cut by the planes of its previous neighbours (see
+// the package comment).
 func (ix *Index) Compute(psi []float64, out *Cells) error {
 	if ix == nil {
 		return errNoIndex
@@ -128,6 +146,8 @@ func (ix *Index) Compute(psi []float64, out *Cells) error {
 	if len(psi) != n {
 		return fmt.Errorf("laguerre: %d weights for %d points", len(psi), n)
 	}
+	warm := ix.opt.WarmStart && out.filled == ix
+	out.filled = nil
 	out.Volume = grow(out.Volume, n)
 	out.Centroid = grow(out.Centroid, 3*n)
 	out.NbrStart = growI(out.NbrStart, n+1)
@@ -150,6 +170,14 @@ func (ix *Index) Compute(psi []float64, out *Cells) error {
 		return nil
 	}
 	nch := (n + chunkSize - 1) / chunkSize
+	if ix.opt.WarmStart {
+		// the previous neighbour lists, in grid order and by sorted
+		// position, are kept while the new ones are written
+		out.wcur, out.wprev = out.wprev, out.wcur
+		for len(out.wcur) < nch {
+			out.wcur = append(out.wcur, warmBuf{})
+		}
+	}
 	for len(out.chunks) < nch {
 		out.chunks = append(out.chunks, chunkBuf{})
 	}
@@ -167,9 +195,22 @@ func (ix *Index) Compute(psi []float64, out *Cells) error {
 		wk := out.workers[w]
 		cb := &out.chunks[c]
 		cb.cnt, cb.nbr, cb.area, cb.empty = cb.cnt[:0], cb.nbr[:0], cb.area[:0], 0
+		var wb *warmBuf
+		if ix.opt.WarmStart {
+			wb = &out.wcur[c]
+			wb.cnt, wb.nq = wb.cnt[:0], wb.nq[:0]
+		}
 		end := min((c+1)*chunkSize, n)
+		po := 0
 		for q := c * chunkSize; q < end; q++ {
-			wk.cell(ix, out, cb, q, psiMax)
+			var prev []int32
+			if warm {
+				pb := &out.wprev[c]
+				m := int(pb.cnt[q-c*chunkSize])
+				prev = pb.nq[po : po+m]
+				po += m
+			}
+			wk.cell(ix, out, cb, q, psiMax, warm, prev, wb)
 		}
 	})
 	for c := 0; c < nch; c++ {
@@ -199,6 +240,7 @@ func (ix *Index) Compute(psi []float64, out *Cells) error {
 			off += int(m)
 		}
 	})
+	out.filled = ix
 	return nil
 }
 
@@ -257,8 +299,11 @@ func lowerPlane(d, c float64) float64 {
 }
 
 // cell computes the cell of the point at grid position q and appends its
-// neighbours to cb.
-func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float64) {
+// neighbours to cb. Faces are tagged with the sorted position of the other
+// point (so that the tags of a cell are near q in memory), and with wallTag
+// or virtTag. With warm, prev lists the sorted positions of the neighbours
+// in the previous call; a non-nil wb receives the new ones.
+func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float64, warm bool, prev []int32, wb *warmBuf) {
 	p := &wk.p
 	xi := [3]float64{ix.xyz[3*q], ix.xyz[3*q+1], ix.xyz[3*q+2]}
 	pi := out.psi[q]
@@ -334,10 +379,14 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 			if t2 > 0 && t2*t2 >= 4*d2*rmax2 {
 				continue
 			}
+			if warm && zeroShift && wk.mark[q2] == wk.stamp {
+				// already cut by warmCuts, which takes points unshifted
+				continue
+			}
 			d := math.Sqrt(d2)
 			t := t2 / (2 * d)
 			wk.keys = append(wk.keys, candKey{t, int32(len(wk.cands))})
-			wk.cands = append(wk.cands, cand{d: d, dx: dx, dy: dy, dz: dz, off: 0.5 * t2, tag: ix.order[q2]})
+			wk.cands = append(wk.cands, cand{d: d, dx: dx, dy: dy, dz: dz, off: 0.5 * t2, tag: int32(q2)})
 		}
 		return true
 	}
@@ -425,19 +474,26 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 		cs := wk.cands
 		// Candidates are cut in order of increasing plane distance, so
 		// the nearest planes shrink the cell (and rmax) first; once the
-		// next plane lies beyond rmax so do all later ones.
+		// next plane lies beyond rmax so do all later ones. After a warm
+		// start the cell is mostly complete and few candidates cut, so
+		// they are taken as they come.
 		keys := wk.keys
-		for a := 1; a < len(keys); a++ {
-			k := keys[a]
-			b := a
-			for b > 0 && keys[b-1].t > k.t {
-				keys[b] = keys[b-1]
-				b--
+		if !warm {
+			for a := 1; a < len(keys); a++ {
+				k := keys[a]
+				b := a
+				for b > 0 && keys[b-1].t > k.t {
+					keys[b] = keys[b-1]
+					b--
+				}
+				keys[b] = k
 			}
-			keys[b] = k
 		}
 		for _, k := range keys {
 			if k.t >= rmax {
+				if warm {
+					continue
+				}
 				break
 			}
 			cd := &cs[k.i]
@@ -467,6 +523,10 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 		coincident := false
 		wk.cands, wk.keys = wk.cands[:0], wk.keys[:0]
 		done := false
+		if warm {
+			done = !wk.warmCuts(ix, out, q, xi, eps, prev, setRmax)
+			empty = done
+		}
 		for k := 0; k < len(ix.offs) && !done; {
 			b := ix.offs[k].b
 			if lowerPlane(b, cpsi) >= rmax {
@@ -537,6 +597,9 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 		out.Volume[self] = 0
 		copy(out.Centroid[3*self:3*self+3], xi[:])
 		cb.cnt = append(cb.cnt, 0)
+		if wb != nil {
+			wb.cnt = append(wb.cnt, 0)
+		}
 		cb.empty++
 		return
 	}
@@ -545,27 +608,28 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 		out.Centroid[3*self+int32(k)] = xi[k] + cen[k]
 	}
 
-	// neighbours: sort faces by tag (insertion sort, about 15 faces), merge
-	// repeated tags (several images of one point), drop walls, self-images
-	// and rounding slivers.
+	// neighbours: sort faces by original index (insertion sort, about 15
+	// faces), merge repeated ones (several images of one point), drop
+	// walls, self-images and rounding slivers.
 	wk.pairs = wk.pairs[:0]
 	for f, t := range ftag {
-		if t == wallTag || t == self {
+		if t < 0 || t == int32(q) {
 			continue
 		}
+		j := ix.order[t]
 		a := farea[f]
 		k := len(wk.pairs)
 		wk.pairs = append(wk.pairs, nbrArea{})
-		for k > 0 && wk.pairs[k-1].j > t {
+		for k > 0 && wk.pairs[k-1].j > j {
 			wk.pairs[k] = wk.pairs[k-1]
 			k--
 		}
-		wk.pairs[k] = nbrArea{t, a}
+		wk.pairs[k] = nbrArea{j, t, a}
 	}
 	minArea := areaRel * ix.scale * ix.scale
 	m := int32(0)
 	for k := 0; k < len(wk.pairs); {
-		j, a := wk.pairs[k].j, wk.pairs[k].a
+		j, t, a := wk.pairs[k].j, wk.pairs[k].q, wk.pairs[k].a
 		k++
 		for k < len(wk.pairs) && wk.pairs[k].j == j {
 			a += wk.pairs[k].a
@@ -573,11 +637,83 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 		}
 		if a > minArea {
 			cb.nbr = append(cb.nbr, j)
+			if wb != nil {
+				wb.nq = append(wb.nq, t)
+			}
 			cb.area = append(cb.area, a)
 			m++
 		}
 	}
 	cb.cnt = append(cb.cnt, m)
+	if wb != nil {
+		wb.cnt = append(wb.cnt, m)
+	}
+}
+
+// warmCuts cuts the current cell of the point at sorted position q (at xi)
+// by the bisectors of its neighbours in the previous call, prev (sorted
+// positions), in order of increasing plane distance, and marks them so that
+// the search in worker.cell skips them. Points are taken as they are (no
+// periodic shift), and only those nearer than half the box on every axis in
+// periodic mode, so a marked point is the same plane when the search meets
+// it unshifted; neighbours through the periodic boundary are left to the
+// search. It reports false when the cell became empty.
+func (wk *worker) warmCuts(ix *Index, out *Cells, q int, xi [3]float64, eps float64, prev []int32, setRmax func(float64)) bool {
+	if len(wk.mark) < ix.n {
+		wk.mark = make([]uint32, ix.n)
+		wk.stamp = 0
+	}
+	wk.stamp++
+	if wk.stamp == 0 {
+		clear(wk.mark)
+		wk.stamp = 1
+	}
+	pi := out.psi[q]
+	keys := wk.warm[:0]
+	for _, q2 := range prev {
+		if q2 < 0 || int(q2) >= ix.n {
+			continue
+		}
+		dx := ix.xyz[3*q2] - xi[0]
+		dy := ix.xyz[3*q2+1] - xi[1]
+		dz := ix.xyz[3*q2+2] - xi[2]
+		if ix.opt.Periodic && (math.Abs(dx) >= 0.5*ix.ext[0] || math.Abs(dy) >= 0.5*ix.ext[1] || math.Abs(dz) >= 0.5*ix.ext[2]) {
+			continue
+		}
+		d2 := dx*dx + dy*dy + dz*dz
+		if d2 == 0 {
+			continue
+		}
+		t2 := d2 + pi - out.psi[q2]
+		// here a key holds the sorted position, not an index into cands
+		keys = append(keys, candKey{t2 / (2 * math.Sqrt(d2)), q2})
+	}
+	for a := 1; a < len(keys); a++ {
+		k := keys[a]
+		b := a
+		for b > 0 && keys[b-1].t > k.t {
+			keys[b] = keys[b-1]
+			b--
+		}
+		keys[b] = k
+	}
+	wk.warm = keys
+	for _, k := range keys {
+		q2 := k.i
+		wk.mark[q2] = wk.stamp
+		dx := ix.xyz[3*q2] - xi[0]
+		dy := ix.xyz[3*q2+1] - xi[1]
+		dz := ix.xyz[3*q2+2] - xi[2]
+		d2 := dx*dx + dy*dy + dz*dz
+		t2 := d2 + pi - out.psi[q2]
+		switch wk.clip(dx, dy, dz, 0.5*t2, eps*math.Sqrt(d2), q2) {
+		case clipEmpty:
+			return false
+		case clipCut:
+			setRmax(wk.rmax2())
+		}
+	}
+	return true
 }
 
 // clip cuts the current cell by the plane n·x = off (see poly.clip), with
@@ -604,12 +740,16 @@ func (wk *worker) clip(nx, ny, nz, off, tol float64, tag int32) int {
 // hasVirtual reports whether the current cell has a face on the virtual
 // starting cube.
 func (wk *worker) hasVirtual() bool {
-	ft := wk.p.ftag
-	if !wk.slow {
-		ft = wk.g.ft[:3*wk.g.nv]
+	if wk.slow {
+		for _, t := range wk.p.ftag {
+			if t == virtTag {
+				return true
+			}
+		}
+		return false
 	}
-	for _, t := range ft {
-		if t == virtTag {
+	for _, f := range wk.g.ft[:wk.g.nv] {
+		if f[0] == virtTag || f[1] == virtTag || f[2] == virtTag {
 			return true
 		}
 	}

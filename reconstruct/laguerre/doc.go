@@ -34,6 +34,20 @@
 // next to the removed part, the cell is carried on as face lists (poly),
 // which handle vertices shared by more than three faces.
 //
+// # Repeated calls
+//
+// A transport solver computes the cells of the same points many times with
+// new weights. The grid (Index) is built once, and a Cells passed again to
+// Index.Compute keeps its arrays and per-thread buffers, so a repeated call
+// allocates nothing of size n. With Options.WarmStart a cell is first cut
+// by the bisectors of its neighbours in the previous result (nearest plane
+// first); the search then goes on exactly as in a cold call, skipping those
+// planes, so the cells stay exact: a cell is complete only when the
+// security test above shows that no further point can cut it. The warm
+// start saves the cuts that a cold search makes and later undoes and most
+// of the ordering of candidates, but changes the order of the cuts and
+// hence the rounding, which is why it is optional.
+//
 // # Tolerance
 //
 // A vertex within epsRel·s = 1e-11·s of a cutting plane, s = (box volume /

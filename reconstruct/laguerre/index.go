@@ -22,6 +22,19 @@ type Options struct {
 	// Threads is the number of goroutines computing cells; 0 or less means
 	// runtime.GOMAXPROCS(0). Results do not depend on it.
 	Threads int
+
+	// WarmStart makes Index.Compute cut every cell first by the bisectors
+	// of its neighbours in the result already held in the Cells (when the
+	// same Index filled it last, without error), as a transport solver
+	// does when the weights change little between calls. The search for
+	// further planes is the same as without it, so the cells are still
+	// exact, but the cuts come in another order: results may differ from a
+	// cold computation by rounding (last bits), and then depend on the
+	// previous call. They still do not depend on Threads. Without a usable
+	// previous result the computation is cold. The Cells then keeps a
+	// second copy of the neighbour lists and one array of n 32-bit marks
+	// per thread.
+	WarmStart bool
 }
 
 // gridDensity is the mean number of points per grid cell of an Index. About
