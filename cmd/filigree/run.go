@@ -38,6 +38,10 @@ type runFlags struct {
 	fields       string
 	seed         uint64
 	plots        string
+	recon        string
+	reconSmooth  float64
+	lagrThresh   float64
+	reconTol     float64
 	rsdMode      string
 	bias         float64
 	rsdSmooth    float64
@@ -57,6 +61,10 @@ func (f *runFlags) register(fs *pflag.FlagSet) {
 	fs.StringVar(&f.fields, "fields", "", "also write the gridded fields (smoothed δ, tidal eigenvalues, web code) as a FITS cube file")
 	fs.Uint64Var(&f.seed, "seed", 1, "seed of the fill particles and the insertion order")
 	fs.StringVar(&f.plots, "plots", "", "also draw the run's figures (wedge, slice, sky, n(z), fractions, density) as PNG files into this directory")
+	fs.StringVar(&f.recon, "recon", "transport", "reconstruction of Lagrangian positions: transport (optimal transport), zeldovich (FFT baseline) or none")
+	fs.Float64Var(&f.reconSmooth, "recon-smooth", 0, "Gaussian smoothing R_L (Mpc/h) of the Lagrangian classification and the Zel'dovich estimate (default: R)")
+	fs.Float64Var(&f.lagrThresh, "lagr-threshold", math.NaN(), fmt.Sprintf("eigenvalue threshold λ_L of the Lagrangian web code (default %g)", web.DefaultThreshold))
+	fs.Float64Var(&f.reconTol, "recon-tol", 0, "optimal-transport tolerance on every cell's relative volume error (default 1e-3)")
 	fs.StringVar(&f.rsdMode, "rsd", "full", "redshift-space treatment (survey mode): none, fog (compress fingers of god of FoF groups) or full (fog, then the linear Kaiser correction)")
 	fs.Float64Var(&f.bias, "bias", 1, "linear bias of the galaxies, for the Kaiser correction")
 	fs.Float64Var(&f.rsdSmooth, "rsd-smooth", 0, "Gaussian smoothing (Mpc/h) of the density for the Kaiser correction (default max(10, 2 × mean separation))")
@@ -121,6 +129,12 @@ func runRun(a *app, fs *pflag.FlagSet, f *runFlags, path string) error {
 	if f.box > 0 {
 		opt.RSD.Mode = pipeline.RSDNone
 	}
+	switch f.recon {
+	case pipeline.ReconNone, pipeline.ReconZeldovich, pipeline.ReconTransport:
+	default:
+		return usagef("--recon: expected transport, zeldovich or none, got %q", f.recon)
+	}
+	opt.Recon = pipeline.ReconOptions{Mode: f.recon, Bias: f.bias, Smooth: f.reconSmooth, Threshold: f.lagrThresh, Tol: f.reconTol}
 	var stepStart time.Time
 	opt.Progress = func(step string) {
 		a.progress.Finish()
@@ -161,6 +175,9 @@ func runRun(a *app, fs *pflag.FlagSet, f *runFlags, path string) error {
 		return fmt.Errorf("%s: %w", path, err)
 	}
 	if err := addRSDColumns(a, t, res); err != nil {
+		return fmt.Errorf("%s: %w", path, err)
+	}
+	if err := addReconColumns(a, t, res); err != nil {
 		return fmt.Errorf("%s: %w", path, err)
 	}
 	if f.groupsOut != "" {
@@ -521,7 +538,7 @@ func addRunColumns(t *survey.Table, res *pipeline.Result, box bool) error {
 		flt("edge_dist", "Mpc/h", "distance to the nearest boundary of the surveyed volume (0 outside)", res.EdgeDist)
 	}
 	fc := survey.NewColumn("flags", survey.Int64, 0)
-	fc.Desc = "bits: 1 near edge (< 2R), 2 completeness < 0.5, 4 duplicate position, 8 no weight, 16 on the hull"
+	fc.Desc = "bits: 1 near edge (< 2R), 2 completeness < 0.5, 4 duplicate position, 8 no weight, 16 on the hull, 32 reconstruction near the edge"
 	fc.I = make([]int64, n)
 	for i, v := range res.Flags {
 		fc.I[i] = int64(v)
@@ -613,4 +630,72 @@ func runPlots(f *runFlags, t *survey.Table, res *pipeline.Result, prov *survey.P
 		VolumeFractions: vf, MassFractions: mf, NearEdge: res.NearEdge, NoWeight: res.NoWeight, Duplicates: res.Duplicates,
 		OnHull: res.Hull, StepSeconds: res.Seconds, Command: "run"}
 	return figures.WritePlots(f.plots, in)
+}
+
+// addReconColumns adds the reconstruction's columns (design: conventions).
+func addReconColumns(a *app, t *survey.Table, res *pipeline.Result) error {
+	r := res.Recon
+	if r == nil {
+		return nil
+	}
+	var cols []*survey.Column
+	flt := func(name, unit, desc string, v []float64) {
+		c := survey.NewColumn(name, survey.Float64, 0)
+		c.F, c.Unit, c.Desc = v, unit, desc
+		for i, x := range v {
+			if math.IsNaN(x) {
+				c.SetNull(i)
+			}
+		}
+		cols = append(cols, c)
+	}
+	for i, ax := range []string{"x", "y", "z"} {
+		flt("lagr_"+ax, "Mpc/h", "reconstructed Lagrangian position ("+r.Mode+")", strided(r.Lagr, i))
+	}
+	for i, ax := range []string{"x", "y", "z"} {
+		flt("disp_"+ax, "Mpc/h", "displacement, Eulerian minus Lagrangian", strided(r.Disp, i))
+	}
+	flt("deform_l1", "", "deformation-tensor eigenvalue 1 (descending) at the Lagrangian position", r.DeformL1)
+	flt("deform_l2", "", "deformation-tensor eigenvalue 2", r.DeformL2)
+	flt("deform_l3", "", "deformation-tensor eigenvalue 3", r.DeformL3)
+	wl := survey.NewColumn("web_lagr", survey.Int64, 0)
+	wl.Desc = "Lagrangian web code: deformation eigenvalues above λ_L (0 void, 1 sheet, 2 filament, 3 knot)"
+	wl.I = make([]int64, len(r.WebLagr))
+	for i, c := range r.WebLagr {
+		if c == pipeline.NoLabel {
+			wl.SetNull(i)
+		} else {
+			wl.I[i] = int64(c)
+		}
+	}
+	cols = append(cols, wl)
+	if r.VPecLOS != nil && t.Col("vpec_los") == nil {
+		flt("vpec_los", "km/s", "linear-theory line-of-sight peculiar velocity f a H Ψ·r̂ from the reconstruction", r.VPecLOS)
+		flt("z_cosmo", "", "redshift with the line-of-sight peculiar velocity removed: (1+z) = (1+z_cosmo)(1+v/c)", r.ZCosmo)
+	}
+	for _, c := range cols {
+		if t.Col(c.Name) != nil {
+			return fmt.Errorf("the catalogue already has a column %q; rename it first", c.Name)
+		}
+		if err := t.Add(c); err != nil {
+			return err
+		}
+	}
+	msg := fmt.Sprintf("reconstruction (%s): Lagrangian web at R_L = %.3g Mpc/h, λ_L = %g; mass fractions %s", r.Mode, r.R, r.Threshold, fractionText(r.MassFraction))
+	if st := r.Transport; st != nil && len(st.Levels) > 0 {
+		lv := st.Levels[len(st.Levels)-1]
+		last := lv.StartMaxErr
+		if len(lv.Iterations) > 0 {
+			last = lv.Iterations[len(lv.Iterations)-1].MaxErr
+		}
+		msg += fmt.Sprintf("; transport of %d points: %d Newton iterations, max relative volume error %.2g, %.1f s", r.Points, len(lv.Iterations), last, st.Seconds)
+		a.summary.Set("transport", st)
+	}
+	a.note("%s", msg)
+	mf := map[string]float64{}
+	for c, name := range webNames {
+		mf[name] = r.MassFraction[c]
+	}
+	a.summary.Set("recon", map[string]any{"mode": r.Mode, "smooth_mpch": r.R, "threshold": r.Threshold, "lagr_mass_fractions": mf, "points": r.Points})
+	return nil
 }

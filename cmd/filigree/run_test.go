@@ -30,7 +30,7 @@ func TestRunSurveyAndBox(t *testing.T) {
 	fields := filepath.Join(dir, "f.fits")
 	groupsOut := filepath.Join(dir, "g.csv")
 	code, _, stderr := run(t, "run", mock, "--footprint", reg, "-o", out, "--fields", fields, "--summary", sum, "--max-grid", "96",
-		"--rsd", "full", "--bias", "1.3", "--groups", groupsOut, "--quiet")
+		"--rsd", "full", "--bias", "1.3", "--groups", groupsOut, "--recon", "zeldovich", "--quiet")
 	if code != exitOK {
 		t.Fatalf("run: exit %d: %s", code, stderr)
 	}
@@ -42,7 +42,7 @@ func TestRunSurveyAndBox(t *testing.T) {
 	checkProbe(t, dir, fields, out, out)
 
 	box := filepath.Join(dir, "b.csv")
-	if code, _, e := run(t, "mock", "--box-only", "--grid", "32", "--box", "200", "--density", "0.003", "-o", box, "--quiet"); code != exitOK {
+	if code, _, e := run(t, "mock", "--box-only", "--grid", "32", "--box", "200", "--density", "0.002", "-o", box, "--quiet"); code != exitOK {
 		t.Fatalf("mock box: %s", e)
 	}
 	out2 := filepath.Join(dir, "rb.parquet")
@@ -51,6 +51,51 @@ func TestRunSurveyAndBox(t *testing.T) {
 		t.Fatalf("run --box: %s", e)
 	}
 	checkRunOutput(t, out2, sum2, false)
+	checkReconOutput(t, out2, 200)
+}
+
+// checkReconOutput checks the reconstruction columns of a box run: every
+// point has a Lagrangian position in the box whose displacement is the
+// minimum-image difference from its position, a Lagrangian web code in
+// 0–3 consistent with its deformation eigenvalues, and the displacements
+// correlate with the mock's true ones (Lagrangian positions are the
+// particles' grid points).
+func checkReconOutput(t *testing.T, out string, L float64) {
+	t.Helper()
+	tab, err := survey.Read(out, survey.ReadOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range []string{"lagr_x", "lagr_y", "lagr_z", "disp_x", "disp_y", "disp_z", "deform_l1", "deform_l2", "deform_l3", "web_lagr"} {
+		if tab.Col(c) == nil {
+			t.Fatalf("no column %q", c)
+		}
+	}
+	var sxy, sxx, syy float64
+	for a, ax := range []string{"x", "y", "z"} {
+		x, q, d := tab.Col(ax).F, tab.Col("lagr_"+ax).F, tab.Col("disp_"+ax).F
+		tq := tab.Col("true_lagr_" + ax).F
+		for i := range x {
+			if q[i] < 0 || q[i] >= L {
+				t.Fatalf("row %d: lagr_%s = %v outside [0, %v)", i, ax, q[i], L)
+			}
+			dd := x[i] - q[i]
+			dd -= L * math.Round(dd/L)
+			if math.Abs(dd-d[i]) > 1e-6 {
+				t.Fatalf("row %d axis %d: disp %v, x − q %v", i, a, d[i], dd)
+			}
+			td := x[i] - tq[i]
+			td -= L * math.Round(td/L)
+			sxy += d[i] * td
+			sxx += d[i] * d[i]
+			syy += td * td
+		}
+	}
+	r := sxy / math.Sqrt(sxx*syy)
+	t.Logf("correlation of reconstructed and true displacements: %.3f", r)
+	if r < 0.5 {
+		t.Errorf("displacement correlation %.3f", r)
+	}
 }
 
 func checkRunOutput(t *testing.T, out, sum string, surveyMode bool) {

@@ -33,37 +33,52 @@ func (r *Realisation) MeasureBias(z, b, density, kMax float64) (BiasMeasurement,
 		return BiasMeasurement{}, err
 	}
 	ga := r.growthAt(z)
-	pos := make([]float64, 3*g.Len())
-	isGal := make([]bool, g.Len())
-	parallel.For(g.Len(), 1<<15, func(lo, hi int) {
-		for p := lo; p < hi; p++ {
-			q := r.lagrangian(p)
-			dx, _ := r.displace(p, ga)
-			for a := 0; a < 3; a++ {
-				pos[3*p+a] = q[a] + dx[a]
-			}
-			isGal[p] = uniform(r.Seed, streamParent, uint64(p)) < sel.prob(r.Nu[p])
-		}
-	})
-	var gpos []float64
-	for p, ok := range isGal {
-		if ok {
-			gpos = append(gpos, pos[3*p:3*p+3]...)
-		}
-	}
-	ng := len(gpos) / 3
-	if ng == 0 {
-		return BiasMeasurement{}, fmt.Errorf("mock: no galaxies selected for the bias measurement")
-	}
 	cg := grid.Geometry{N: max(4, g.N/2), L: g.L}
 	fft, err := grid.NewFFT(cg.N)
 	if err != nil {
 		return BiasMeasurement{}, err
 	}
-	spec := func(p []float64) []complex128 {
-		rho := make([]float64, cg.Len())
-		grid.AssignCIC(rho, cg, p, nil)
-		mean := float64(len(p)/3) / float64(cg.Len())
+	// Matter and galaxies are assigned in chunks of particles, so that at
+	// most one chunk's positions are held at a time (the whole set is
+	// 24 bytes per particle: 3 GB at N = 512).
+	const chunk = 1 << 22
+	rhoM := make([]float64, cg.Len())
+	rhoG := make([]float64, cg.Len())
+	part := make([]float64, cg.Len())
+	var pos, gpos []float64
+	ng := 0
+	for lo := 0; lo < g.Len(); lo += chunk {
+		hi := min(lo+chunk, g.Len())
+		pos = pos[:0]
+		gpos = gpos[:0]
+		for p := lo; p < hi; p++ {
+			q := r.lagrangian(p)
+			dx, _ := r.displace(p, ga)
+			x := [3]float64{q[0] + dx[0], q[1] + dx[1], q[2] + dx[2]}
+			pos = append(pos, x[:]...)
+			if uniform(r.Seed, streamParent, uint64(p)) < sel.prob(r.Nu[p]) {
+				gpos = append(gpos, x[:]...)
+			}
+		}
+		ng += len(gpos) / 3
+		grid.AssignCIC(part, cg, pos, nil)
+		parallel.For(len(part), 1<<16, func(a, b int) {
+			for i := a; i < b; i++ {
+				rhoM[i] += part[i]
+			}
+		})
+		grid.AssignCIC(part, cg, gpos, nil)
+		parallel.For(len(part), 1<<16, func(a, b int) {
+			for i := a; i < b; i++ {
+				rhoG[i] += part[i]
+			}
+		})
+	}
+	if ng == 0 {
+		return BiasMeasurement{}, fmt.Errorf("mock: no galaxies selected for the bias measurement")
+	}
+	spec := func(rho []float64, count int) []complex128 {
+		mean := float64(count) / float64(cg.Len())
 		for i := range rho {
 			rho[i] = rho[i]/mean - 1
 		}
@@ -71,9 +86,8 @@ func (r *Realisation) MeasureBias(z, b, density, kMax float64) (BiasMeasurement,
 		fft.Forward(dk, rho)
 		return dk
 	}
-	dm := spec(pos)
-	pos = nil
-	dg := spec(gpos)
+	dm := spec(rhoM, g.Len())
+	dg := spec(rhoG, ng)
 	kMin := 2 * 2 * math.Pi / g.L
 	if kMax <= kMin {
 		return BiasMeasurement{}, fmt.Errorf("mock: the box of %g Mpc/h has no modes between %.4g and %.4g h/Mpc for the bias", g.L, kMin, kMax)

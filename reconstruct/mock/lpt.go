@@ -3,6 +3,8 @@ package mock
 import (
 	"fmt"
 	"math"
+	"runtime"
+	"runtime/debug"
 	"sync"
 
 	"github.com/filigree-survey/filigree/cosmo"
@@ -198,6 +200,10 @@ func generate(cfg Config, dk []complex128) (*Realisation, error) {
 		})
 	}
 	work2 = nil
+	// Return the freed grids before the displacement fields are allocated:
+	// at N = 512 each is 1 GB and the collector would otherwise let the heap
+	// grow past them.
+	runtime.GC()
 	step("second-order displacement")
 	// φ2_k = −S_k/k²; Ψ2 = ∇φ2 → Ψ2_k = i k φ2_k = −i k S_k / k².
 	fft.Forward(dk, work) // dk is no longer needed: reuse it for S_k
@@ -208,6 +214,8 @@ func generate(cfg Config, dk []complex128) (*Realisation, error) {
 		fft.Inverse(work, tmp)
 		r.Psi2[a] = toFloat32(work)
 	}
+	dk, tmp, work = nil, nil, nil
+	debug.FreeOSMemory() // the working grids are gone; give their pages back
 	return r, nil
 }
 

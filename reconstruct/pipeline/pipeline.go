@@ -53,6 +53,7 @@ var FlagDescriptions = []struct {
 	{FlagDuplicate, "duplicate", "same position as an earlier row; merged in the tessellation"},
 	{FlagNoWeight, "no_weight", "outside the footprint or the n(z) range: no density or label"},
 	{FlagHull, "hull", "Voronoi cell cut by the convex hull: DTFE density biased high"},
+	{FlagReconEdge, "recon_edge", "within one mean separation of the survey boundary: the reconstruction feels the fill particles"},
 }
 
 // NoLabel is the web code of galaxies without a label.
@@ -82,6 +83,8 @@ type Options struct {
 	Seed uint64
 	// RSD chooses the redshift-space steps of survey mode.
 	RSD RSDOptions
+	// Recon chooses the reconstruction of Lagrangian positions.
+	Recon ReconOptions
 	// Progress, if not nil, is told the name of each step as it starts.
 	Progress func(step string)
 }
@@ -136,6 +139,8 @@ type Result struct {
 	Seconds map[string]float64
 	// RSD reports the redshift-space steps (survey mode).
 	RSD *RSDResult
+	// Recon holds the reconstruction (nil without one).
+	Recon *ReconResult
 }
 
 func (o *Options) defaults() {
@@ -312,6 +317,13 @@ func RunSurvey(in Survey, opt Options) (*Result, error) {
 	st.start("fractions")
 	res.InSurvey = surveyCells(in.Footprint, g, rMin, rMax)
 	fractions(res, use)
+	gm := make([]float64, len(use))
+	for k, i := range use {
+		gm[k] = res.Weight[i]
+	}
+	if err := reconstruct(st, res, use, gm, fillXYZ(fill), fill.Mass, rho, g, false, 0, in.Model, in.Z, opt.Recon); err != nil {
+		return nil, err
+	}
 	st.stop()
 	return res, nil
 }
@@ -364,6 +376,9 @@ func RunBox(xyz []float64, L float64, weights []float64, opt Options) (*Result, 
 	}
 	st.start("fractions")
 	fractions(res, use)
+	if err := reconstruct(st, res, use, mass, nil, 0, rho, g, true, L, nil, nil, opt.Recon); err != nil {
+		return nil, err
+	}
 	st.stop()
 	return res, nil
 }
