@@ -135,25 +135,8 @@ func runRun(a *app, fs *pflag.FlagSet, f *runFlags, path string) error {
 		return usagef("--recon: expected transport, zeldovich or none, got %q", f.recon)
 	}
 	opt.Recon = pipeline.ReconOptions{Mode: f.recon, Bias: f.bias, Smooth: f.reconSmooth, Threshold: f.lagrThresh, Tol: f.reconTol}
-	var stepStart time.Time
-	opt.Progress = func(step string) {
-		a.progress.Finish()
-		if a.progress.enabled() {
-			a.progress.Start(step, 0)
-		} else if !a.quiet {
-			if !stepStart.IsZero() {
-				fmt.Fprintf(a.stderr, " (%.1f s)\n", time.Since(stepStart).Seconds())
-			}
-			fmt.Fprintf(a.stderr, "filigree run: %s", step)
-			stepStart = time.Now()
-		}
-	}
-	endSteps := func() {
-		a.progress.Finish()
-		if !stepStart.IsZero() && !a.quiet && !a.progress.enabled() {
-			fmt.Fprintf(a.stderr, " (%.1f s)\n", time.Since(stepStart).Seconds())
-		}
-	}
+	opt.Progress = func(step string) { a.progress.Start(step, 0) }
+	endSteps := a.progress.Finish
 	t0 := time.Now()
 	a.progress.Start("reading "+path, 0)
 	t, err := survey.Read(path, survey.ReadOptions{HDU: f.cols.hdu})

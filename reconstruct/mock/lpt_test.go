@@ -2,6 +2,7 @@ package mock
 
 import (
 	"math"
+	"runtime"
 	"testing"
 
 	"github.com/filigree-survey/filigree/cosmo"
@@ -228,3 +229,44 @@ func TestGenerateDeterministic(t *testing.T) {
 		t.Errorf("same seed identical: %v; other seed differs: %v", same, differ)
 	}
 }
+
+// TestThreadsIndependent checks the project rule that results do not depend
+// on the number of threads: the fields, a box snapshot and a survey are
+// identical with GOMAXPROCS 1 and 2.
+func TestThreadsIndependent(t *testing.T) {
+	m, lp := planck(t)
+	run := func(procs int) (*Realisation, *Survey) {
+		old := runtime.GOMAXPROCS(procs)
+		defer runtime.GOMAXPROCS(old)
+		r, err := Generate(Config{Model: m, Power: lp, N: 32, L: 300, Seed: 5, Order: 2})
+		if err != nil {
+			t.Fatal(err)
+		}
+		s, err := r.Survey(SurveyOptions{Footprint: allSkyT{}, NBar: func(float64) float64 { return 0.001 }, ZMax: 0.04, Bias: 1.3, AutoObserver: true})
+		if err != nil {
+			t.Fatal(err)
+		}
+		return r, s
+	}
+	r1, s1 := run(1)
+	r2, s2 := run(2)
+	for a := 0; a < 3; a++ {
+		for i := range r1.Psi1[a] {
+			if r1.Psi1[a][i] != r2.Psi1[a][i] || r1.Psi2[a][i] != r2.Psi2[a][i] {
+				t.Fatalf("Ψ differs at cell %d axis %d", i, a)
+			}
+		}
+	}
+	if s1.Len() != s2.Len() || s1.Len() == 0 {
+		t.Fatalf("surveys of %d and %d galaxies", s1.Len(), s2.Len())
+	}
+	for i := range s1.Z {
+		if s1.Z[i] != s2.Z[i] || s1.ID[i] != s2.ID[i] {
+			t.Fatalf("galaxy %d differs", i)
+		}
+	}
+}
+
+type allSkyT struct{}
+
+func (allSkyT) Completeness(ra, dec float64) float64 { return 1 }
