@@ -61,7 +61,7 @@ func (f *runFlags) register(fs *pflag.FlagSet) {
 	fs.StringVar(&f.fields, "fields", "", "also write the gridded fields (smoothed δ, tidal eigenvalues, web code) as a FITS cube file")
 	fs.Uint64Var(&f.seed, "seed", 1, "seed of the fill particles and the insertion order")
 	fs.StringVar(&f.plots, "plots", "", "also draw the run's figures (wedge, slice, sky, n(z), fractions, density) as PNG files into this directory")
-	fs.StringVar(&f.recon, "recon", "transport", "reconstruction of Lagrangian positions: transport (optimal transport), zeldovich (FFT baseline) or none")
+	fs.StringVar(&f.recon, "recon", "zeldovich", "reconstruction of Lagrangian positions: zeldovich (FFT baseline), transport (optimal transport; slow in survey mode, see README) or none")
 	fs.Float64Var(&f.reconSmooth, "recon-smooth", 0, "Gaussian smoothing R_L (Mpc/h) of the Lagrangian classification and the Zel'dovich estimate (default: R)")
 	fs.Float64Var(&f.lagrThresh, "lagr-threshold", math.NaN(), fmt.Sprintf("eigenvalue threshold λ_L of the Lagrangian web code (default %g)", web.DefaultThreshold))
 	fs.Float64Var(&f.reconTol, "recon-tol", 0, "optimal-transport tolerance on every cell's relative volume error (default 1e-3)")

@@ -47,7 +47,7 @@ func TestRunSurveyAndBox(t *testing.T) {
 	}
 	out2 := filepath.Join(dir, "rb.parquet")
 	sum2 := filepath.Join(dir, "s2.json")
-	if code, _, e := run(t, "run", box, "--box", "200", "--xyz-cols", "x,y,z", "-o", out2, "--summary", sum2, "--quiet"); code != exitOK {
+	if code, _, e := run(t, "run", box, "--box", "200", "--xyz-cols", "x,y,z", "--recon", "transport", "-o", out2, "--summary", sum2, "--quiet"); code != exitOK {
 		t.Fatalf("run --box: %s", e)
 	}
 	checkRunOutput(t, out2, sum2, false)

@@ -138,7 +138,13 @@ func reconstruct(st *stepper, res *Result, use []int, mass []float64, fillXYZ []
 		}
 		pos, pm, rep := mergeCoincident(pos, pm)
 		rr.Points = len(pm)
-		tr, err := transport.Solve(pos, pm, transport.Options{Lo: lo, Hi: hi, Periodic: periodic, Tol: opt.Tol})
+		topt := transport.Options{Lo: lo, Hi: hi, Periodic: periodic, Tol: opt.Tol}
+		if st.o.Progress != nil {
+			topt.Progress = func(iter int, maxErr float64) {
+				st.o.Progress(fmt.Sprintf("optimal transport of %d points: Newton iteration %d, largest cell volume error %.3g", len(pm), iter, maxErr))
+			}
+		}
+		tr, err := transport.Solve(pos, pm, topt)
 		if err != nil && !errors.Is(err, transport.ErrNotConverged) {
 			return err
 		}
