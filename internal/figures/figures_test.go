@@ -185,3 +185,66 @@ func TestEqualScales(t *testing.T) {
 		}
 	}
 }
+
+// TestClassColoursDrawn is the plot check: each figure that draws
+// galaxies by class is a readable PNG, and the galaxies of every class are
+// drawn in that class's colour in the plotted region: the number of pixels
+// of each class colour is larger than in the same figure drawn with the
+// galaxies of that class removed (legend swatches are in both).
+func TestClassColoursDrawn(t *testing.T) {
+	count := func(in Inputs, kind string) ([4]int, image.Rectangle) {
+		t.Helper()
+		dir := t.TempDir()
+		paths, err := WritePlots(dir, in)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var found [4]int
+		var bd image.Rectangle
+		for _, p := range paths {
+			if filepath.Base(p) != kind+".png" {
+				continue
+			}
+			b, err := os.ReadFile(p)
+			if err != nil {
+				t.Fatal(err)
+			}
+			img, _, err := image.Decode(bytes.NewReader(b))
+			if err != nil {
+				t.Fatal(err)
+			}
+			bd = img.Bounds()
+			for y := bd.Min.Y; y < bd.Max.Y; y++ {
+				for x := bd.Min.X; x < bd.Max.X; x++ {
+					r, g, bl, _ := img.At(x, y).RGBA()
+					for c := 0; c < 4; c++ {
+						want := ClassColor(c)
+						if uint8(r>>8) == want.R && uint8(g>>8) == want.G && uint8(bl>>8) == want.B {
+							found[c]++
+						}
+					}
+				}
+			}
+		}
+		return found, bd
+	}
+	for _, kind := range []string{"wedge", "slice", "sky"} {
+		full, bd := count(synthetic(t), kind)
+		if bd.Dx() < 400 || bd.Dy() < 300 {
+			t.Errorf("%s: %d × %d pixels, too small to read", kind, bd.Dx(), bd.Dy())
+		}
+		for c := 0; c < 4; c++ {
+			in := synthetic(t)
+			wc := in.Table.Col("web_tidal")
+			for i, v := range wc.I {
+				if v == int64(c) {
+					wc.SetNull(i)
+				}
+			}
+			without, _ := count(in, kind)
+			if !(full[c] > without[c]) {
+				t.Errorf("%s: class %d (%s) colour covers %d pixels with its galaxies and %d without", kind, c, ClassLabel(c), full[c], without[c])
+			}
+		}
+	}
+}
