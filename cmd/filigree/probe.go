@@ -68,6 +68,11 @@ type probeFields struct {
 	edgeDist          []float64 // survey mode: distance to outside cells
 	model             *cosmo.Model
 	cosmoKV           [][2]string
+	// Lagrangian fields (when the run reconstructed): displacement and
+	// deformation eigenvalues on the same grid, functions of q.
+	psi        [3][]float64
+	deform     [3][]float64
+	rL, lThres float64
 }
 
 func readProbeFields(path string) (*probeFields, error) {
@@ -145,6 +150,31 @@ func readProbeFields(path string) (*probeFields, error) {
 			return nil, &survey.InputError{File: path, Byte: -1, Column: c.Name, Msg: "shape differs from DELTA's"}
 		}
 		*dst = f64(c)
+	}
+	if _, ok := byName["PSI_X"]; ok {
+		for a, name := range []string{"PSI_X", "PSI_Y", "PSI_Z"} {
+			c, err := need(name)
+			if err != nil {
+				return nil, err
+			}
+			pf.psi[a] = f64(c)
+		}
+		for a, name := range []string{"DEFORM_L1", "DEFORM_L2", "DEFORM_L3"} {
+			c, err := need(name)
+			if err != nil {
+				return nil, err
+			}
+			pf.deform[a] = f64(c)
+		}
+		c := byName["PSI_X"]
+		for _, hc := range c.Cards {
+			switch hc.Key {
+			case "RSMOOTHL":
+				pf.rL, _ = hc.Value.(float64)
+			case "LTHRESH":
+				pf.lThres, _ = hc.Value.(float64)
+			}
+		}
 	}
 	if !pf.box {
 		c, err := need("IN_SURVEY")
@@ -290,6 +320,23 @@ func runProbe(a *app, fs *pflag.FlagSet, cf *cosmoFlags, cols *columnFlags, fiel
 		}
 	}
 	newCols = append(newCols, wc)
+	if res.lagr != nil {
+		for ax, name := range []string{"x", "y", "z"} {
+			add("lagr_"+name, "Lagrangian position q solving q = x − Ψ(q) on the run's displacement grid (Mpc/h)", strided(res.lagr, ax))
+		}
+		for k := range res.dl {
+			add(fmt.Sprintf("deform_l%d", k+1), "deformation-tensor eigenvalue at q (trilinear interpolation)", res.dl[k])
+		}
+		lc := survey.NewColumn(prefix+"web_lagr", survey.Int64, 0)
+		lc.Desc = fmt.Sprintf("Lagrangian web code recomputed from the interpolated deformation eigenvalues at λ_L = %g", pf.lThres)
+		lc.I = res.lcode
+		for i := range res.lcode {
+			if res.flags[i]&probeOutside != 0 {
+				lc.SetNull(i)
+			}
+		}
+		newCols = append(newCols, lc)
+	}
 	fc := survey.NewColumn("probe_flags", survey.Int64, 0)
 	fc.Desc = "bits: 1 outside the reconstructed volume (no values), 2 within 2R of its boundary"
 	fc.I = res.flags
@@ -321,6 +368,10 @@ type probeResult struct {
 	l     [3][]float64
 	code  []int64
 	flags []int64
+	// Lagrangian fields, when the fields file has them.
+	lagr  []float64
+	dl    [3][]float64
+	lcode []int64
 }
 
 // probeSample interpolates the fields at the positions. In survey mode a
@@ -368,7 +419,51 @@ func probeSample(pf *probeFields, xyz []float64) probeResult {
 		}
 		res.code[i] = c
 	}
+	if pf.psi[0] != nil {
+		probeLagrangian(pf, xyz, &res)
+	}
 	return res
+}
+
+// probeLagrangian finds each position's Lagrangian position by the fixed
+// point q = x − Ψ(q) on the displacement grid (eight iterations from q = x;
+// it converges where the map is not folded, as for linear displacements)
+// and samples the deformation eigenvalues there.
+func probeLagrangian(pf *probeFields, xyz []float64, res *probeResult) {
+	n := len(xyz) / 3
+	g := pf.g
+	q := append([]float64(nil), xyz...)
+	comp := make([]float64, n)
+	for it := 0; it < 8; it++ {
+		next := append([]float64(nil), xyz...)
+		for a := 0; a < 3; a++ {
+			grid.InterpolateTrilinear(comp, pf.psi[a], g, q)
+			for i := 0; i < n; i++ {
+				next[3*i+a] -= comp[i]
+			}
+		}
+		q = next
+	}
+	res.lagr = q
+	for k := 0; k < 3; k++ {
+		res.dl[k] = make([]float64, n)
+		grid.InterpolateTrilinear(res.dl[k], pf.deform[k], g, q)
+	}
+	res.lcode = make([]int64, n)
+	for i := 0; i < n; i++ {
+		if res.flags[i]&probeOutside != 0 {
+			for a := 0; a < 3; a++ {
+				res.lagr[3*i+a] = math.NaN()
+				res.dl[a][i] = math.NaN()
+			}
+			continue
+		}
+		for k := 0; k < 3; k++ {
+			if res.dl[k][i] > pf.lThres {
+				res.lcode[i]++
+			}
+		}
+	}
 }
 
 // cosmoFlagsGiven reports whether any cosmology flag was set.

@@ -571,6 +571,31 @@ func writeFieldsCube(path string, res *pipeline.Result, box float64, prov *surve
 		{Name: "TIDAL_L3", Shape: shape, Data: res.Fields.L3, Cards: cards},
 		{Name: "WEB_TIDAL", Shape: shape, Data: codes, Cards: cards},
 	}
+	if r := res.Recon; r != nil && r.Fields != nil && r.Fields.G == g {
+		lc := append(append([]survey.HeaderCard(nil), cards...),
+			survey.HeaderCard{Key: "RSMOOTHL", Value: r.R, Comment: "[Mpc/h] smoothing of the Lagrangian classification"},
+			survey.HeaderCard{Key: "LTHRESH", Value: r.Threshold, Comment: "eigenvalue threshold of the Lagrangian web code"},
+			survey.HeaderCard{Key: "RECON", Value: r.Mode, Comment: "reconstruction method"})
+		f32 := func(x []float64) []float32 {
+			out := make([]float32, len(x))
+			for i, v := range x {
+				out[i] = float32(v)
+			}
+			return out
+		}
+		lcodes := make([]float32, len(r.Codes))
+		for i, c := range r.Codes {
+			lcodes[i] = float32(c)
+		}
+		cubes = append(cubes,
+			survey.Cube{Name: "PSI_X", Shape: shape, Data: f32(r.Psi[0]), Unit: "Mpc/h", Cards: lc},
+			survey.Cube{Name: "PSI_Y", Shape: shape, Data: f32(r.Psi[1]), Unit: "Mpc/h", Cards: lc},
+			survey.Cube{Name: "PSI_Z", Shape: shape, Data: f32(r.Psi[2]), Unit: "Mpc/h", Cards: lc},
+			survey.Cube{Name: "DEFORM_L1", Shape: shape, Data: r.Fields.L1, Cards: lc},
+			survey.Cube{Name: "DEFORM_L2", Shape: shape, Data: r.Fields.L2, Cards: lc},
+			survey.Cube{Name: "DEFORM_L3", Shape: shape, Data: r.Fields.L3, Cards: lc},
+			survey.Cube{Name: "WEB_LAGR", Shape: shape, Data: lcodes, Cards: lc})
+	}
 	if res.InSurvey != nil {
 		in := make([]float32, len(res.InSurvey))
 		for i, b := range res.InSurvey {

@@ -192,6 +192,26 @@ func checkProbe(t *testing.T, dir, fields, cat, runOut string) {
 	if compared < p.Len()/2 {
 		t.Errorf("only %d of %d rows compared", compared, p.Len())
 	}
+	// The run reconstructed (Zel'dovich): the probe finds Lagrangian
+	// positions by q = x − Ψ(q) and its web_lagr should mostly agree with
+	// the run's own (the run samples at x − Ψ(x), the probe iterates).
+	pw, rw := p.Col("probe_web_lagr"), r.Col("web_lagr")
+	if pw == nil || rw == nil {
+		t.Fatal("no web_lagr from probe or run")
+	}
+	same, tot := 0, 0
+	for i := range pw.I {
+		if pw.IsNull(i) || rw.IsNull(i) {
+			continue
+		}
+		tot++
+		if pw.I[i] == rw.I[i] {
+			same++
+		}
+	}
+	if tot == 0 || float64(same) < 0.8*float64(tot) {
+		t.Errorf("probe and run web_lagr agree for %d of %d galaxies", same, tot)
+	}
 	if code, _, e := run(t, "probe", fields, cat, "--z-col", "z_cosmo", "--prefix", "probe_", "-o", out, "--cosmology", "wmap9", "--quiet"); code != exitUsage || !strings.Contains(e, "--force") {
 		t.Errorf("conflicting cosmology: exit %d: %s", code, e)
 	}

@@ -61,6 +61,13 @@ type ReconResult struct {
 	Points    int // points in the transport problem (galaxies + fill)
 	// Fractions of the Lagrangian web codes over the galaxies (by weight).
 	MassFraction [4]float64
+	// Psi is the gridded displacement (Mpc/h) and Fields its deformation
+	// eigenvalues (Fields.L1..L3) and −∇·Ψ (Fields.Delta), on the grid
+	// Fields.G, as functions of the Lagrangian position (to first order
+	// the same as the Eulerian one for the Zel'dovich estimate).
+	Psi    [3][]float64
+	Fields *web.Fields
+	Codes  []uint8
 }
 
 // reconstruct runs the chosen reconstruction on the galaxies in use at
@@ -177,6 +184,7 @@ func reconstruct(st *stepper, res *Result, use []int, mass []float64, fillXYZ []
 	if err != nil {
 		return err
 	}
+	rr.Psi, rr.Fields, rr.Codes = psiGrid, fields, fields.Classify(rr.Threshold)
 	qs := append([]float64(nil), q...)
 	if periodic {
 		for k := range qs {
