@@ -297,16 +297,7 @@ func runProbe(a *app, fs *pflag.FlagSet, cf *cosmoFlags, cols *columnFlags, fiel
 		}
 	}
 	var newCols []*survey.Column
-	add := func(name, desc string, v []float64) {
-		c := survey.NewColumn(prefix+name, survey.Float64, 0)
-		c.F, c.Desc = v, desc
-		for i, x := range v {
-			if math.IsNaN(x) {
-				c.SetNull(i)
-			}
-		}
-		newCols = append(newCols, c)
-	}
+	add := func(name, desc string, v []float64) { newCols = append(newCols, floatColumn(prefix+name, "", desc, v)) }
 	add("delta", fmt.Sprintf("density contrast smoothed at R = %g Mpc/h, trilinear interpolation of the fields cube", pf.r), res.delta)
 	add("tidal_l1", "tidal eigenvalue 1 (descending), trilinear interpolation", res.l[0])
 	add("tidal_l2", "tidal eigenvalue 2, trilinear interpolation", res.l[1])
@@ -341,13 +332,8 @@ func runProbe(a *app, fs *pflag.FlagSet, cf *cosmoFlags, cols *columnFlags, fiel
 	fc.Desc = "bits: 1 outside the reconstructed volume (no values), 2 within 2R of its boundary"
 	fc.I = res.flags
 	newCols = append(newCols, fc)
-	for _, c := range newCols {
-		if t.Col(c.Name) != nil {
-			return fmt.Errorf("%s already has a column %q; use --prefix", catPath, c.Name)
-		}
-		if err := t.Add(c); err != nil {
-			return err
-		}
+	if err := addColumns(t, newCols, "use --prefix"); err != nil {
+		return fmt.Errorf("%s: %w", catPath, err)
 	}
 	t.Meta = mergeMeta(t.Meta, prov.Meta())
 	t.Meta.Set("filigree.caution", fmt.Sprintf("web labels depend on the smoothing R = %g Mpc/h and the threshold λ_th = %g of the run that made %s, and on its tracer density", pf.r, pf.threshold, fieldsPath))

@@ -280,14 +280,7 @@ func addRSDColumns(a *app, t *survey.Table, res *pipeline.Result) error {
 			{"vpec_los", "km/s", "linear-theory line-of-sight peculiar velocity from the converged Kaiser correction", r.VPecLOS},
 			{"z_cosmo", "", "redshift with the line-of-sight peculiar velocity removed", r.ZCosmo},
 		} {
-			col := survey.NewColumn(c.name, survey.Float64, 0)
-			col.F, col.Unit, col.Desc = c.v, c.unit, c.desc
-			for i, x := range c.v {
-				if math.IsNaN(x) {
-					col.SetNull(i)
-				}
-			}
-			cols = append(cols, col)
+			cols = append(cols, floatColumn(c.name, c.unit, c.desc, c.v))
 		}
 		last := 0.0
 		if len(r.Shifts) > 0 {
@@ -295,13 +288,8 @@ func addRSDColumns(a *app, t *survey.Table, res *pipeline.Result) error {
 		}
 		a.note("Kaiser correction: bias %g, smoothing %.3g Mpc/h, %d iterations, last shift %.3g Mpc/h, converged %v", r.Bias, r.Smooth, len(r.Shifts), last, r.Converged)
 	}
-	for _, c := range cols {
-		if t.Col(c.Name) != nil {
-			return fmt.Errorf("the catalogue already has a column %q; rename it first", c.Name)
-		}
-		if err := t.Add(c); err != nil {
-			return err
-		}
+	if err := addColumns(t, cols, "rename it first"); err != nil {
+		return err
 	}
 	return nil
 }
@@ -475,20 +463,11 @@ func runBoxMode(a *app, f *runFlags, t *survey.Table, path string, prov *survey.
 func addRunColumns(t *survey.Table, res *pipeline.Result, box bool) error {
 	n := len(res.Flags)
 	var cols []*survey.Column
-	flt := func(name, unit, desc string, v []float64) {
-		c := survey.NewColumn(name, survey.Float64, 0)
-		c.F, c.Unit, c.Desc = v, unit, desc
-		for i, x := range v {
-			if math.IsNaN(x) {
-				c.SetNull(i)
-			}
-		}
-		cols = append(cols, c)
-	}
+	flt := func(name, unit, desc string, v []float64) { cols = append(cols, floatColumn(name, unit, desc, v)) }
 	if !box {
 		flt("comov_dist", "Mpc/h", "line-of-sight comoving distance", res.ComovDist)
 		for i, ax := range []string{"x", "y", "z"} {
-			flt("cart_"+ax, "Mpc/h", "equatorial Cartesian position, observer at the origin", stridedCopy(res.Cart, i))
+			flt("cart_"+ax, "Mpc/h", "equatorial Cartesian position, observer at the origin", strided(res.Cart, i))
 		}
 	}
 	wdesc := "mass weight: comoving volume per galaxy 1/(completeness × n̄(z)) × user weight"
@@ -527,18 +506,11 @@ func addRunColumns(t *survey.Table, res *pipeline.Result, box bool) error {
 		fc.I[i] = int64(v)
 	}
 	cols = append(cols, fc)
-	for _, c := range cols {
-		if t.Col(c.Name) != nil {
-			return fmt.Errorf("the catalogue already has a column %q; rename it first", c.Name)
-		}
-		if err := t.Add(c); err != nil {
-			return err
-		}
+	if err := addColumns(t, cols, "rename it first"); err != nil {
+		return err
 	}
 	return nil
 }
-
-func stridedCopy(v []float64, i int) []float64 { return strided(v, i) }
 
 // writeFieldsCube writes the smoothed fields with the grid geometry.
 func writeFieldsCube(path string, res *pipeline.Result, box float64, prov *survey.Provenance) error {
@@ -647,16 +619,7 @@ func addReconColumns(a *app, t *survey.Table, res *pipeline.Result) error {
 		return nil
 	}
 	var cols []*survey.Column
-	flt := func(name, unit, desc string, v []float64) {
-		c := survey.NewColumn(name, survey.Float64, 0)
-		c.F, c.Unit, c.Desc = v, unit, desc
-		for i, x := range v {
-			if math.IsNaN(x) {
-				c.SetNull(i)
-			}
-		}
-		cols = append(cols, c)
-	}
+	flt := func(name, unit, desc string, v []float64) { cols = append(cols, floatColumn(name, unit, desc, v)) }
 	for i, ax := range []string{"x", "y", "z"} {
 		flt("lagr_"+ax, "Mpc/h", "reconstructed Lagrangian position ("+r.Mode+")", strided(r.Lagr, i))
 	}
@@ -681,13 +644,8 @@ func addReconColumns(a *app, t *survey.Table, res *pipeline.Result) error {
 		flt("vpec_los", "km/s", "linear-theory line-of-sight peculiar velocity f a H Ψ·r̂ from the reconstruction", r.VPecLOS)
 		flt("z_cosmo", "", "redshift with the line-of-sight peculiar velocity removed: (1+z) = (1+z_cosmo)(1+v/c)", r.ZCosmo)
 	}
-	for _, c := range cols {
-		if t.Col(c.Name) != nil {
-			return fmt.Errorf("the catalogue already has a column %q; rename it first", c.Name)
-		}
-		if err := t.Add(c); err != nil {
-			return err
-		}
+	if err := addColumns(t, cols, "rename it first"); err != nil {
+		return err
 	}
 	msg := fmt.Sprintf("reconstruction (%s): Lagrangian web at R_L = %.3g Mpc/h, λ_L = %g; mass fractions %s", r.Mode, r.R, r.Threshold, fractionText(r.MassFraction))
 	if st := r.Transport; st != nil && len(st.Levels) > 0 {
@@ -705,5 +663,31 @@ func addReconColumns(a *app, t *survey.Table, res *pipeline.Result) error {
 		mf[name] = r.MassFraction[c]
 	}
 	a.summary.Set("recon", map[string]any{"mode": r.Mode, "smooth_mpch": r.R, "threshold": r.Threshold, "lagr_mass_fractions": mf, "points": r.Points})
+	return nil
+}
+
+// floatColumn returns a Float64 column of v in which NaN values are nulls.
+func floatColumn(name, unit, desc string, v []float64) *survey.Column {
+	c := survey.NewColumn(name, survey.Float64, 0)
+	c.F, c.Unit, c.Desc = v, unit, desc
+	for i, x := range v {
+		if math.IsNaN(x) {
+			c.SetNull(i)
+		}
+	}
+	return c
+}
+
+// addColumns appends cols to t, refusing a name t already has (hint says
+// what to do about it).
+func addColumns(t *survey.Table, cols []*survey.Column, hint string) error {
+	for _, c := range cols {
+		if t.Col(c.Name) != nil {
+			return fmt.Errorf("the catalogue already has a column %q; %s", c.Name, hint)
+		}
+		if err := t.Add(c); err != nil {
+			return err
+		}
+	}
 	return nil
 }
