@@ -261,7 +261,8 @@ func RunSurvey(in Survey, opt Options) (*Result, error) {
 	res.Fill = len(fill.X)
 
 	sepOf := func(i int) float64 { return math.Cbrt(1 / nobsOf[i]) }
-	if res.RSD, err = redshiftSpace(st, in, res, use, sepOf, fill, rMin, rMax, buf, opt.RSD); err != nil {
+	fxyz := fillXYZ(fill)
+	if res.RSD, err = redshiftSpace(st, in, res, use, sepOf, fxyz, fill.Mass, rMin, rMax, buf, opt.RSD); err != nil {
 		return nil, err
 	}
 
@@ -271,8 +272,8 @@ func RunSurvey(in Survey, opt Options) (*Result, error) {
 		xyz = append(xyz, res.Cart[3*i:3*i+3]...)
 		mass = append(mass, res.Weight[i])
 	}
-	for j := range fill.X {
-		xyz = append(xyz, fill.X[j], fill.Y[j], fill.Z[j])
+	xyz = append(xyz, fxyz...)
+	for range fill.X {
 		mass = append(mass, fill.Mass)
 	}
 
@@ -321,7 +322,7 @@ func RunSurvey(in Survey, opt Options) (*Result, error) {
 	for k, i := range use {
 		gm[k] = res.Weight[i]
 	}
-	if err := reconstruct(st, res, use, gm, fillXYZ(fill), fill.Mass, rho, g, false, 0, in.Model, in.Z, opt.Recon); err != nil {
+	if err := reconstruct(st, res, use, gm, fxyz, fill.Mass, rho, g, false, 0, in.Model, in.Z, opt.Recon); err != nil {
 		return nil, err
 	}
 	st.stop()

@@ -63,10 +63,10 @@ type RSDResult struct {
 
 // redshiftSpace runs the FoF compression and, for RSDFull, the Kaiser
 // correction on the galaxies in use, updating res.Cart and res.ComovDist.
-// fill are the fill particles (standing for mean density around the
-// survey), buf the fill buffer width and nMed the observed density used
-// for them.
-func redshiftSpace(st *stepper, in Survey, res *Result, use []int, sepOf func(i int) float64, fill *randoms.Fill, rMin, rMax, buf float64, opt RSDOptions) (*RSDResult, error) {
+// fxyz are the fill particles' positions (flat x, y, z; standing for mean
+// density around the survey) and fillMass their mass, and buf the fill
+// buffer width.
+func redshiftSpace(st *stepper, in Survey, res *Result, use []int, sepOf func(i int) float64, fxyz []float64, fillMass, rMin, rMax, buf float64, opt RSDOptions) (*RSDResult, error) {
 	n := len(in.RA)
 	out := &RSDResult{Mode: opt.Mode, GroupID: make([]int64, n), GroupN: make([]int64, n)}
 	for i := range out.GroupID {
@@ -121,17 +121,17 @@ func redshiftSpace(st *stepper, in Survey, res *Result, use []int, sepOf func(i 
 	st.start("linear redshift-space correction")
 	m := in.Model
 	s := make([]float64, 3*len(use))
-	mass := make([]float64, len(use)+len(fill.X))
+	mass := make([]float64, len(use)+len(fxyz)/3)
 	f := make([]float64, len(use))
 	for k, i := range use {
 		copy(s[3*k:3*k+3], res.Cart[3*i:3*i+3])
 		mass[k] = res.Weight[i]
 		f[k] = m.GrowthRate(in.Z[i])
 	}
-	for j := range fill.X {
-		mass[len(use)+j] = fill.Mass
+	for j := len(use); j < len(mass); j++ {
+		mass[j] = fillMass
 	}
-	lo, hi := bounds(append(append([]float64(nil), s...), fillXYZ(fill)...))
+	lo, hi := bounds(append(append([]float64(nil), s...), fxyz...))
 	side := 0.0
 	pad := 3 * out.Smooth
 	for a := 0; a < 3; a++ {
@@ -155,7 +155,6 @@ func redshiftSpace(st *stepper, in Survey, res *Result, use []int, sepOf func(i 
 	for i, d := range dist {
 		covered[i] = d <= math.Max(0, buf-gr.H())
 	}
-	fxyz := fillXYZ(fill)
 	cellVol := gr.H() * gr.H() * gr.H()
 	displace := func(x []float64) ([]float64, error) {
 		pos := append(append(make([]float64, 0, len(x)+len(fxyz)), x...), fxyz...)
