@@ -748,3 +748,33 @@ func TestAssignCICBatches(t *testing.T) {
 		}
 	}
 }
+
+// The 5-smooth ("regular") numbers are OEIS A051037: 1, 2, 3, 4, 5, 6, 8,
+// 9, 10, 12, 15, 16, 18, 20, 24, 25, 27, 30, 32, 36, 40, 45, 48, 50, 54,
+// 60, 64, …; FastSize must return the even ones.
+func TestFastSize(t *testing.T) {
+	regular := []int{2, 4, 6, 8, 10, 12, 16, 18, 20, 24, 30, 32, 36, 40, 48, 50, 54, 60, 64}
+	want := func(n int) int {
+		for _, r := range regular {
+			if r >= n {
+				return r
+			}
+		}
+		return -1
+	}
+	for n := -3; n <= 64; n++ {
+		if got := FastSize(n); got != want(n) {
+			t.Errorf("FastSize(%d) = %d, want %d", n, got, want(n))
+		}
+	}
+	for _, c := range []struct{ n, up, down int }{
+		{356, 360, 324}, {257, 270, 256}, {512, 512, 512}, {513, 540, 512}, {3, 4, 2},
+	} {
+		if got := FastSize(c.n); got != c.up {
+			t.Errorf("FastSize(%d) = %d, want %d", c.n, got, c.up)
+		}
+		if got := FastSizeBelow(c.n); got != c.down {
+			t.Errorf("FastSizeBelow(%d) = %d, want %d", c.n, got, c.down)
+		}
+	}
+}

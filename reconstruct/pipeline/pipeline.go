@@ -394,16 +394,18 @@ func chooseR(given, sep float64, what string) (float64, string) {
 	return r, fmt.Sprintf("default: %.3g Mpc/h from the mean galaxy separation %.3g Mpc/h at %s", r, sep, what)
 }
 
-// chooseGrid returns a grid of side at least side with spacing near
-// R/CellsPerR, an even number of cells no more than MaxGrid.
+// chooseGrid returns a grid of side at least side with spacing at most
+// R/CellsPerR: the smallest FFT-friendly size (grid.FastSize) that gives
+// it, within [16, MaxGrid] (a capped grid is coarser than asked).
 func chooseGrid(side, r float64, opt Options) grid.Geometry {
-	h := r / opt.CellsPerR
-	n := int(math.Ceil(side / h))
-	if n%2 == 1 {
-		n++
-	}
-	n = max(16, min(n, opt.MaxGrid&^1))
-	return grid.Geometry{N: n, L: side}
+	return grid.Geometry{N: gridSize(side, r/opt.CellsPerR, opt.MaxGrid), L: side}
+}
+
+// gridSize is the number of cells per side of a grid of the given side
+// and spacing at most h: an FFT-friendly even number (grid.FastSize) in
+// [16, the largest such number ≤ maxN].
+func gridSize(side, h float64, maxN int) int {
+	return max(16, min(grid.FastSize(int(math.Ceil(side/h))), grid.FastSizeBelow(maxN)))
 }
 
 func bounds(xyz []float64) (lo, hi [3]float64) {
@@ -451,9 +453,30 @@ func gridDensity(st *stepper, f *dtfe.Field, rho []float64, g grid.Geometry, opt
 	return out
 }
 
-// classify smooths, computes the tidal field and labels the galaxies in use.
+// classify records the per-galaxy DTFE results of t and f, then smooths,
+// computes the tidal field and labels the galaxies in use. The
+// tessellation and the DTFE field are not used after the first step, so
+// their memory is free for the tidal grids.
 func classify(st *stepper, res *Result, rho []float64, g grid.Geometry, use []int, mass []float64, t *tess.Tessellation, f *dtfe.Field) error {
 	n := len(res.Flags)
+	res.DTFEDensity = nanSlice(n)
+	dens := f.Density()
+	hull := f.Hull()
+	rep := t.Rep()
+	for j, i := range use {
+		// Density() holds 4 m_j/W; the number density is 4/W.
+		if mass[j] > 0 {
+			res.DTFEDensity[i] = dens[j] / mass[j]
+		}
+		if hull != nil && hull[j] {
+			res.Flags[i] |= FlagHull
+			res.Hull++
+		}
+		if int(rep[j]) != j {
+			res.Flags[i] |= FlagDuplicate
+			res.Duplicates++
+		}
+	}
 	for i := range rho {
 		rho[i]--
 	}
@@ -475,24 +498,8 @@ func classify(st *stepper, res *Result, rho []float64, g grid.Geometry, use []in
 	for i := range res.Web {
 		res.Web[i] = NoLabel
 	}
-	res.DTFEDensity = nanSlice(n)
-	dens := f.Density()
-	hull := f.Hull()
-	rep := t.Rep()
 	for j, i := range use {
 		res.Delta[i], res.L1[i], res.L2[i], res.L3[i], res.Web[i] = delta[j], l1[j], l2[j], l3[j], codes[j]
-		// Density() holds 4 m_j/W; the number density is 4/W.
-		if mass[j] > 0 {
-			res.DTFEDensity[i] = dens[j] / mass[j]
-		}
-		if hull != nil && hull[j] {
-			res.Flags[i] |= FlagHull
-			res.Hull++
-		}
-		if int(rep[j]) != j {
-			res.Flags[i] |= FlagDuplicate
-			res.Duplicates++
-		}
 	}
 	return nil
 }

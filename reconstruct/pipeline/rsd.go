@@ -137,9 +137,7 @@ func redshiftSpace(st *stepper, in Survey, res *Result, use []int, sepOf func(i 
 	for a := 0; a < 3; a++ {
 		side = math.Max(side, hi[a]-lo[a]+2*pad)
 	}
-	n1 := int(math.Ceil(side / (out.Smooth / 2.5)))
-	n1 = max(16, min(n1+n1%2, 256))
-	gr := grid.Geometry{N: n1, L: side}
+	gr := grid.Geometry{N: gridSize(side, out.Smooth/2.5, 256), L: side}
 	for a := 0; a < 3; a++ {
 		gr.Origin[a] = 0.5*(lo[a]+hi[a]) - 0.5*side
 	}
