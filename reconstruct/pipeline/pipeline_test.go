@@ -12,7 +12,7 @@ import (
 // give the spacing asked for, within the cap.
 func TestGridSize(t *testing.T) {
 	for _, c := range []struct {
-		side, h float64
+		side, h   float64
 		max, want int
 	}{
 		{648, 1.856, 512, 360}, // 349.1 cells asked: 350 = 2·5²·7 is not 5-smooth
