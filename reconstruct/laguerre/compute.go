@@ -529,7 +529,11 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 		}
 		for k := 0; k < len(ix.offs) && !done; {
 			b := ix.offs[k].b
-			if lowerPlane(b, cpsi) >= rmax {
+			// Offsets beyond the precomputed cube (Chebyshev radius
+			// offChunk) have bounds from offChunk·gmin up, which can be
+			// below the cube's own largest bounds (its corners): the
+			// search may only stop at b when those are also out of reach.
+			if lowerPlane(min(b, offChunk*ix.gmin), cpsi) >= rmax {
 				done = true
 				break
 			}

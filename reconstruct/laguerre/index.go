@@ -89,6 +89,12 @@ type gridOff struct {
 // mode points are wrapped into [Lo, Hi). Coordinates must be finite and
 // there must be fewer than 2^31 points.
 func NewIndex(xyz []float64, opt Options) (*Index, error) {
+	return newIndex(xyz, opt, false)
+}
+
+// newIndex is NewIndex; uniform keeps the grid spacing of points spread
+// over the whole box even for crowded points (tests compare the two).
+func newIndex(xyz []float64, opt Options, uniform bool) (*Index, error) {
 	if len(xyz)%3 != 0 {
 		return nil, fmt.Errorf("laguerre: coordinate slice has length %d, not a multiple of 3", len(xyz))
 	}
@@ -111,6 +117,9 @@ func NewIndex(xyz []float64, opt Options) (*Index, error) {
 	}
 	ix.scale = math.Cbrt(vol / float64(n))
 	h := math.Cbrt(vol * gridDensity / float64(n))
+	if !uniform {
+		h = gridSpacing(xyz, opt, vol, n)
+	}
 	ncell := 1
 	for k := 0; k < 3; k++ {
 		d := int(ix.ext[k] / h)
@@ -188,6 +197,45 @@ func NewIndex(xyz []float64, opt Options) (*Index, error) {
 		return oa.c2 < ob.c2
 	})
 	return ix, nil
+}
+
+// gridSpacing returns the grid cell size: (vol·gridDensity/n)^(1/3) for
+// points spread over the box, smaller for points crowded into part of it
+// (a survey and its fill inside a box with a coarse lattice around), so
+// that a typical point's cell holds about gridDensity points. The
+// crowding is measured on the uniform grid as the mean over points of the
+// count of their cell, k̄ = Σ count²/n (gridDensity+1 for uniform random
+// points); when k̄ is more than twice that, h shrinks by
+// ((gridDensity+1)/k̄)^(1/3), to no fewer than vol/(8n) per cell.
+// Coordinates outside the box or not finite are left to NewIndex's checks.
+func gridSpacing(xyz []float64, opt Options, vol float64, n int) float64 {
+	h := math.Cbrt(vol * gridDensity / float64(n))
+	var dims [3]int
+	for k := 0; k < 3; k++ {
+		dims[k] = max(1, min(int((opt.Hi[k]-opt.Lo[k])/h), 1<<10))
+	}
+	count := make([]int32, dims[0]*dims[1]*dims[2])
+	for i := 0; i < n; i++ {
+		c := 0
+		for k := 2; k >= 0; k-- {
+			f := (xyz[3*i+k] - opt.Lo[k]) / (opt.Hi[k] - opt.Lo[k])
+			f -= math.Floor(f) // periodic wrap; clipped points lie in [0, 1]
+			if !(f >= 0) {     // NaN
+				f = 0
+			}
+			c = c*dims[k] + min(dims[k]-1, int(f*float64(dims[k])))
+		}
+		count[c]++
+	}
+	var s2 float64
+	for _, v := range count {
+		s2 += float64(v) * float64(v)
+	}
+	kbar := s2 / float64(n)
+	if kbar > 2*(gridDensity+1) {
+		h = math.Max(h*math.Cbrt((gridDensity+1)/kbar), math.Cbrt(vol/(8*float64(n))))
+	}
+	return h
 }
 
 // Len returns the number of points in ix.
