@@ -11,6 +11,7 @@ import (
 	"math"
 	"slices"
 	"sort"
+	"sync"
 
 	"github.com/filigree-survey/filigree/cosmo"
 	"github.com/filigree-survey/filigree/internal/parallel"
@@ -93,33 +94,48 @@ func Find(ra, dec, r, sep []float64, opt Options) (*Groups, error) {
 		return &Groups{Start: []int32{0}}, nil
 	}
 	cells := newCellIndex(u, r, 2*opt.BPerp*sMax)
+	// The galaxies are visited in cell order, and the candidates read from
+	// copies of their direction, distance and separation in that order, so
+	// that neighbouring searches share cache lines. The stamp arrays (one
+	// int32 per cell) are reused between chunks: the marks, i+1, are
+	// unique per galaxy.
+	type point struct{ x, y, z, r, sep float64 }
+	sorted := make([]point, n)
+	for k, j := range cells.order {
+		sorted[k] = point{u[3*j], u[3*j+1], u[3*j+2], r[j], sep[j]}
+	}
+	stamps := sync.Pool{New: func() any { return make([]int32, len(cells.start)-1) }}
 	const chunk = 4096
 	links := make([][]int32, (n+chunk-1)/chunk)
 	parallel.For(n, chunk, func(lo, hi int) {
 		var out []int32
 		var seen []int
-		stamp := make([]int32, len(cells.start)-1)
-		for i := lo; i < hi; i++ {
-			ui := [3]float64{u[3*i], u[3*i+1], u[3*i+2]}
-			lpar := opt.BPar * 0.5 * (sep[i] + sMax)
-			seen = cells.tube(seen[:0], stamp, int32(i+1), ui, math.Max(0, r[i]-lpar), r[i]+lpar)
+		stamp := stamps.Get().([]int32)
+		defer stamps.Put(stamp)
+		for k := lo; k < hi; k++ {
+			i := cells.order[k]
+			pi := sorted[k]
+			lpar := opt.BPar * 0.5 * (pi.sep + sMax)
+			seen = cells.tube(seen[:0], stamp, i+1, [3]float64{pi.x, pi.y, pi.z}, math.Max(0, pi.r-lpar), pi.r+lpar)
 			for _, key := range seen {
-				for _, j := range cells.order[cells.start[key]:cells.start[key+1]] {
-					if int(j) <= i {
+				for m := cells.start[key]; m < cells.start[key+1]; m++ {
+					j := cells.order[m]
+					if j <= i {
 						continue
 					}
-					s := 0.5 * (sep[i] + sep[j])
-					if math.Abs(r[i]-r[j]) > opt.BPar*s {
+					pj := &sorted[m]
+					s := 0.5 * (pi.sep + pj.sep)
+					if math.Abs(pi.r-pj.r) > opt.BPar*s {
 						continue
 					}
 					// Angle by the numerically safe atan2 of |u×v| and u·v.
-					cx := u[3*i+1]*u[3*j+2] - u[3*i+2]*u[3*j+1]
-					cy := u[3*i+2]*u[3*j] - u[3*i]*u[3*j+2]
-					cz := u[3*i]*u[3*j+1] - u[3*i+1]*u[3*j]
-					dot := u[3*i]*u[3*j] + u[3*i+1]*u[3*j+1] + u[3*i+2]*u[3*j+2]
+					cx := pi.y*pj.z - pi.z*pj.y
+					cy := pi.z*pj.x - pi.x*pj.z
+					cz := pi.x*pj.y - pi.y*pj.x
+					dot := pi.x*pj.x + pi.y*pj.y + pi.z*pj.z
 					theta := math.Atan2(math.Sqrt(cx*cx+cy*cy+cz*cz), dot)
-					if 0.5*(r[i]+r[j])*theta <= opt.BPerp*s {
-						out = append(out, int32(i), j)
+					if 0.5*(pi.r+pj.r)*theta <= opt.BPerp*s {
+						out = append(out, i, j)
 					}
 				}
 			}
