@@ -180,7 +180,14 @@ func reconstruct(st *stepper, res *Result, use []int, mass []float64, fillXYZ []
 	if opt.Mode == ReconZeldovich {
 		st.start("Lagrangian classification")
 	}
-	fields, err := web.Deformation(psiGrid, gL, rr.R)
+	// The deformation is smoothed once at R_L: the Zel'dovich Ψ already
+	// is (smoothing it again would give an effective √2·R_L), the
+	// transport Ψ, gridded from the cells, is not.
+	rDeform := rr.R
+	if opt.Mode == ReconZeldovich {
+		rDeform = 0
+	}
+	fields, err := web.Deformation(psiGrid, gL, rDeform)
 	if err != nil {
 		return err
 	}
