@@ -16,15 +16,18 @@ dir=${1:-$(mktemp -d)}
 mkdir -p "$dir"
 go build -o "$dir/filigree" ./cmd/filigree
 fg="$dir/filigree"
-"$fg" demo -o "$dir/demo" --quiet >/dev/null
+# REUSE=1 keeps the demo, the mock and the truth run already in DIR (the
+# truth run alone takes half an hour) and redoes only the survey runs.
+reuse() { [ "${REUSE:-0}" = 1 ] && [ -e "$1" ]; }
+reuse "$dir/demo/run-summary.json" || "$fg" demo -o "$dir/demo" --quiet >/dev/null
 reg="$dir/demo/footprint/lanternfish.reg"
 # The same mock as the demo's (demoMockArgs in cmd/filigree/demo.go), plus the particles.
 mockargs="--zmin 0.01 --zmax 0.15 --grid 256 --box 600 --seed 2026 --bias 1.3 --mag-limit 18.4 --mag-bright 13.5 --nz-cap 0.025"
-"$fg" mock --footprint "$reg" $mockargs -o "$dir/mock.fits" --particles "$dir/particles.fits" --ic-cube "$dir/ic.fits" --summary "$dir/mock.json" --quiet
+reuse "$dir/ic.fits" || "$fg" mock --footprint "$reg" $mockargs -o "$dir/mock.fits" --particles "$dir/particles.fits" --ic-cube "$dir/ic.fits" --summary "$dir/mock.json" --quiet
 R=$(/usr/bin/python3 -c "import json;print(json.load(open('$dir/demo/run-summary.json'))['smooth_mpch'])")
 TH=$(/usr/bin/python3 -c "import json;print(json.load(open('$dir/demo/run-summary.json'))['threshold'])")
 echo "R = $R Mpc/h, threshold = $TH"
-/usr/bin/time -f "truth run: %e s, %M KB" "$fg" run "$dir/particles.fits" --box 600 --xyz-cols x,y,z --smooth "$R" --threshold "$TH" \
+reuse "$dir/truth-fields.fits" || /usr/bin/time -f "truth run: %e s, %M KB" "$fg" run "$dir/particles.fits" --box 600 --xyz-cols x,y,z --smooth "$R" --threshold "$TH" \
   -o "$dir/particles-web.parquet" --fields "$dir/truth-fields.fits" --quiet
 for mode in none fog full; do
   /usr/bin/time -f "run --rsd $mode: %e s, %M KB" "$fg" run "$dir/mock.fits" --footprint "$reg" --bias 1.3 --rsd $mode --smooth "$R" --threshold "$TH" \
