@@ -191,26 +191,28 @@ func (f *FFT) passX(spec []complex128, forward bool) {
 // 360 = 2³·3²·5.
 func FastSize(n int) int {
 	n = max(n, 2)
-	for n += n % 2; ; n += 2 {
-		m := n
-		for _, p := range [...]int{2, 3, 5} {
-			for m%p == 0 {
-				m /= p
-			}
-		}
-		if m == 1 {
-			return n
-		}
+	for n += n % 2; !smooth235(n); n += 2 {
 	}
+	return n
 }
 
 // FastSizeBelow returns the largest even n' ≤ n (and ≥ 2) whose prime
 // factors are all 2, 3 or 5: FastSize for a cap.
 func FastSizeBelow(n int) int {
 	for n -= n % 2; n > 2; n -= 2 {
-		if FastSize(n) == n {
+		if smooth235(n) {
 			return n
 		}
 	}
 	return 2
+}
+
+// smooth235 reports whether n > 0 has no prime factor other than 2, 3, 5.
+func smooth235(n int) bool {
+	for _, p := range [...]int{2, 3, 5} {
+		for n%p == 0 {
+			n /= p
+		}
+	}
+	return n == 1
 }
