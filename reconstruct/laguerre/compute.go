@@ -1,9 +1,11 @@
 package laguerre
 
 import (
+	"cmp"
 	"fmt"
 	"math"
 	"runtime"
+	"slices"
 	"sync"
 	"sync/atomic"
 )
@@ -50,6 +52,11 @@ type Cells struct {
 	wcur    []warmBuf // neighbour lists by sorted position, written (WarmStart)
 	wprev   []warmBuf // the same from the previous call, read (WarmStart)
 	workers []*worker
+
+	// frames and weight bounds (blocks.go)
+	bA, bR, cR []float64
+	rGlob      float64
+	aMin, aMax [3]float64
 }
 
 // cubeRel is the half-side of the starting cube of a cell relative to the
@@ -59,10 +66,6 @@ const cubeRel = 2.5
 
 // virtTag marks the faces of the starting cube that are not box walls.
 const virtTag int32 = -2
-
-// chunkSize is the number of consecutive grid-ordered cells a worker takes
-// at a time.
-const chunkSize = 256
 
 type chunkBuf struct {
 	cnt   []int32 // neighbours per cell of the chunk
@@ -92,6 +95,21 @@ type worker struct {
 	mark  []uint32
 	stamp uint32
 	warm  []candKey
+
+	// the current block: frame, per-point results (offsets and counts
+	// into tn, tq, ta; trmax the largest vertex distance, −1 for an empty
+	// cell), offsets of the previous neighbour lists, grid cells to test
+	f                        frame
+	tOff, tCnt, pOff         []int32
+	tn, tq                   []int32
+	ta, trmax                []float64
+	ta3                      []float64 // frame of each point of the block
+	tball                    []float64 // ball centre (3), radius and power of each cell of the block
+	extra, px                []xcell
+	again                    int // cells computed again after the block test (diagnostics)
+	nCells, nPts             int // grid cells and points scanned (diagnostics)
+	nExtra, nBlocks, nShells int
+	grp                      []int32 // points of the current octant (block positions)
 }
 
 // candKey is a candidate's plane distance t from p_i and its index in
@@ -152,16 +170,12 @@ func (ix *Index) Compute(psi []float64, out *Cells) error {
 	out.Centroid = grow(out.Centroid, 3*n)
 	out.NbrStart = growI(out.NbrStart, n+1)
 	out.psi = grow(out.psi, n)
-	psiMax := math.Inf(-1)
 	for q, i := range ix.order {
 		w := psi[i]
 		if math.IsNaN(w) || math.IsInf(w, 0) {
 			return fmt.Errorf("laguerre: weight %d is %g, want a finite number", i, w)
 		}
 		out.psi[q] = w
-		if w > psiMax {
-			psiMax = w
-		}
 	}
 	out.NbrStart[0] = 0
 	out.Empty = 0
@@ -169,7 +183,7 @@ func (ix *Index) Compute(psi []float64, out *Cells) error {
 		out.Nbr, out.Area = out.Nbr[:0], out.Area[:0]
 		return nil
 	}
-	nch := (n + chunkSize - 1) / chunkSize
+	nch := len(ix.brank) - 1 // one chunk per block
 	if ix.opt.WarmStart {
 		// the previous neighbour lists, in grid order and by sorted
 		// position, are kept while the new ones are written
@@ -191,33 +205,27 @@ func (ix *Index) Compute(psi []float64, out *Cells) error {
 	for len(out.workers) < threads {
 		out.workers = append(out.workers, &worker{})
 	}
+	ix.frames(out, threads)
 	parallel(threads, nch, func(w, c int) {
 		wk := out.workers[w]
 		cb := &out.chunks[c]
 		cb.cnt, cb.nbr, cb.area, cb.empty = cb.cnt[:0], cb.nbr[:0], cb.area[:0], 0
-		var wb *warmBuf
+		var wb, pb *warmBuf
 		if ix.opt.WarmStart {
 			wb = &out.wcur[c]
 			wb.cnt, wb.nq = wb.cnt[:0], wb.nq[:0]
 		}
-		end := min((c+1)*chunkSize, n)
-		po := 0
-		for q := c * chunkSize; q < end; q++ {
-			var prev []int32
-			if warm {
-				pb := &out.wprev[c]
-				m := int(pb.cnt[q-c*chunkSize])
-				prev = pb.nq[po : po+m]
-				po += m
-			}
-			wk.cell(ix, out, cb, q, psiMax, warm, prev, wb)
+		if warm {
+			pb = &out.wprev[c]
 		}
+		wk.block(ix, out, c, cb, warm, pb, wb)
 	})
 	for c := 0; c < nch; c++ {
 		cb := &out.chunks[c]
 		out.Empty += cb.empty
+		q0 := int(ix.start[ix.brank[c]])
 		for k, m := range cb.cnt {
-			out.NbrStart[ix.order[c*chunkSize+k]+1] = m
+			out.NbrStart[ix.order[q0+k]+1] = m
 		}
 	}
 	total := 0
@@ -232,9 +240,10 @@ func (ix *Index) Compute(psi []float64, out *Cells) error {
 	out.Area = grow(out.Area, total)
 	parallel(threads, nch, func(_, c int) {
 		cb := &out.chunks[c]
+		q0 := int(ix.start[ix.brank[c]])
 		off := 0
 		for k, m := range cb.cnt {
-			s := out.NbrStart[ix.order[c*chunkSize+k]]
+			s := out.NbrStart[ix.order[q0+k]]
 			copy(out.Nbr[s:s+m], cb.nbr[off:off+int(m)])
 			copy(out.Area[s:s+m], cb.area[off:off+int(m)])
 			off += int(m)
@@ -298,30 +307,229 @@ func lowerPlane(d, c float64) float64 {
 	return (d*d + c) / (2 * d)
 }
 
-// cell computes the cell of the point at grid position q and appends its
-// neighbours to cb. Faces are tagged with the sorted position of the other
-// point (so that the tags of a cell are near q in memory), and with wallTag
-// or virtTag. With warm, prev lists the sorted positions of the neighbours
-// in the previous call; a non-nil wb receives the new ones.
-func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float64, warm bool, prev []int32, wb *warmBuf) {
+// block computes the cells of the points of block b (sorted positions q0 ≤
+// q < q1) and writes their neighbour lists to cb (and wb): first each cell
+// with the points of the precomputed offsets, then the test against the
+// farther grid cells (see blocks.go), then again with the grid cells the
+// test could not rule out, for the cells they may cut.
+func (wk *worker) block(ix *Index, out *Cells, b int, cb *chunkBuf, warm bool, pb *warmBuf, wb *warmBuf) {
+	q0, q1 := int(ix.start[ix.brank[b]]), int(ix.start[ix.brank[b+1]])
+	nq := q1 - q0
+	if nq == 0 {
+		return
+	}
+	f := &wk.f
+	ix.blockFrame(b, f)
+	f.setup(ix, out, b)
+	wk.tOff, wk.tCnt = growI(wk.tOff, nq), growI(wk.tCnt, nq)
+	wk.trmax = grow(wk.trmax, nq)
+	wk.tn, wk.tq, wk.ta = wk.tn[:0], wk.tq[:0], wk.ta[:0]
+	wk.pOff = growI(wk.pOff, nq+1)
+	wk.pOff[0] = 0
+	for k := 0; k < nq; k++ {
+		m := int32(0)
+		if warm {
+			m = pb.cnt[k]
+		}
+		wk.pOff[k+1] = wk.pOff[k] + m
+	}
+	prevOf := func(k int) []int32 {
+		if !warm {
+			return nil
+		}
+		return pb.nq[wk.pOff[k]:wk.pOff[k+1]]
+	}
+	// Each point's frame is the block's, or with a previous result the
+	// point's previous displacement p − centroid, which centres its cell
+	// on the point when the weights have changed little.
+	wk.ta3 = grow(wk.ta3, 3*nq)
+	wk.tball = grow(wk.tball, 5*nq)
+	for k := 0; k < nq; k++ {
+		q := q0 + k
+		a := f.a
+		if self := ix.order[q]; warm && out.Volume[self] > 0 {
+			for d := 0; d < 3; d++ {
+				a[d] = ix.xyz[3*q+d] - out.Centroid[3*int(self)+d]
+			}
+		}
+		copy(wk.ta3[3*k:3*k+3], a[:])
+		wk.cell(ix, out, q, k, a, warm, prevOf(k), nil)
+	}
+	// The far test, per octant of the block (halves of its grid cell
+	// range on each axis), so that the bounds of a set of cells stay
+	// tight; then per cell against the grid cells its octant could not
+	// rule out.
+	for oct := 0; oct < 8; oct++ {
+		var glo, ghi [3]int
+		skip := false
+		for d := 0; d < 3; d++ {
+			mid := f.clo[d] + (f.chi[d]-f.clo[d])/2
+			if oct>>d&1 == 0 {
+				glo[d], ghi[d] = f.clo[d], mid
+			} else {
+				glo[d], ghi[d] = mid, f.chi[d]
+			}
+			skip = skip || glo[d] == ghi[d]
+		}
+		if skip {
+			continue
+		}
+		wk.grp = wk.grp[:0]
+		for c2 := glo[2]; c2 < ghi[2]; c2++ {
+			for c1 := glo[1]; c1 < ghi[1]; c1++ {
+				for c0 := glo[0]; c0 < ghi[0]; c0++ {
+					qa, qb := ix.cellPoints((c2*ix.dims[1]+c1)*ix.dims[0] + c0)
+					for q := qa; q < qb; q++ {
+						if wk.trmax[q-q0] >= 0 {
+							wk.grp = append(wk.grp, int32(q-q0))
+						}
+					}
+				}
+			}
+		}
+		if len(wk.grp) == 0 {
+			continue
+		}
+		bs := ballSet{rho: math.Inf(-1), nu: math.Inf(-1)}
+		for d := 0; d < 3; d++ {
+			bs.xlo[d], bs.xhi[d] = math.Inf(1), math.Inf(-1)
+			bs.plo[d] = ix.lo[d] + float64(glo[d])*ix.g[d]
+			bs.phi[d] = ix.lo[d] + float64(ghi[d])*ix.g[d]
+		}
+		for _, k := range wk.grp {
+			for d := 0; d < 3; d++ {
+				bs.a[d] += wk.ta3[3*int(k)+d] / float64(len(wk.grp))
+			}
+		}
+		rmax, m, da := math.Inf(-1), math.Inf(1), 0.0
+		for _, k32 := range wk.grp {
+			k := int(k32)
+			q := q0 + k
+			a := wk.ta3[3*k : 3*k+3]
+			rmax = math.Max(rmax, wk.trmax[k])
+			m = math.Min(m, out.psi[q]-2*(f.a[0]*(ix.xyz[3*q]-f.c[0])+f.a[1]*(ix.xyz[3*q+1]-f.c[1])+f.a[2]*(ix.xyz[3*q+2]-f.c[2])))
+			da = math.Max(da, math.Sqrt((a[0]-f.a[0])*(a[0]-f.a[0])+(a[1]-f.a[1])*(a[1]-f.a[1])+(a[2]-f.a[2])*(a[2]-f.a[2])))
+			tb := wk.tball[5*k : 5*k+5]
+			h2 := 0.0
+			for d := 0; d < 3; d++ {
+				bs.xlo[d] = math.Min(bs.xlo[d], tb[d])
+				bs.xhi[d] = math.Max(bs.xhi[d], tb[d])
+				g := tb[d] - ix.xyz[3*q+d] + bs.a[d]
+				h2 += g * g
+			}
+			bs.dsp = math.Max(bs.dsp, math.Sqrt(h2))
+			bs.rho = math.Max(bs.rho, tb[3])
+			bs.nu = math.Max(bs.nu, tb[4]+2*(bs.a[0]*tb[0]+bs.a[1]*tb[1]+bs.a[2]*tb[2]))
+		}
+		wk.far(ix, out, f, &bs, rmax, m, da)
+		wk.nExtra += len(wk.extra)
+		wk.nBlocks++
+		if len(wk.extra) == 0 {
+			continue
+		}
+		for _, k32 := range wk.grp {
+			k := int(k32)
+			q := q0 + k
+			xi := [3]float64{ix.xyz[3*q], ix.xyz[3*q+1], ix.xyz[3*q+2]}
+			var a [3]float64
+			copy(a[:], wk.ta3[3*k:3*k+3])
+			tb := wk.tball[5*k : 5*k+5]
+			one := ballSet{xlo: [3]float64{tb[0], tb[1], tb[2]}, xhi: [3]float64{tb[0], tb[1], tb[2]}, plo: xi, phi: xi, rho: tb[3], nu: tb[4],
+				a: [3]float64{xi[0] - tb[0], xi[1] - tb[1], xi[2] - tb[2]}}
+			one.nu += 2 * (one.a[0]*tb[0] + one.a[1]*tb[1] + one.a[2]*tb[2])
+			wk.px = wk.px[:0]
+			for i := range wk.extra {
+				xc := &wk.extra[i]
+				if one.excludes(xc.lo, xc.hi, xc.c, xc.a, out.cR[xc.r]) {
+					continue
+				}
+				wk.px = append(wk.px, *xc)
+			}
+			if len(wk.px) > 0 {
+				wk.cell(ix, out, q, k, a, warm, prevOf(k), wk.px)
+				wk.again++
+			}
+		}
+	}
+	for k := 0; k < nq; k++ {
+		o, c := wk.tOff[k], wk.tCnt[k]
+		cb.nbr = append(cb.nbr, wk.tn[o:o+c]...)
+		cb.area = append(cb.area, wk.ta[o:o+c]...)
+		cb.cnt = append(cb.cnt, c)
+		if wb != nil {
+			wb.nq = append(wb.nq, wk.tq[o:o+c]...)
+			wb.cnt = append(wb.cnt, c)
+		}
+		if wk.trmax[k] < 0 {
+			cb.empty++
+		}
+	}
+}
+
+// xcellBound returns the squared distance from xi to grid cell xc and the
+// lower bound ψ_i − W on ψ_i − ψ_j + 2a·(p_j − xi) over its points j, for
+// the frame a.
+func (wk *worker) xcellBound(ix *Index, out *Cells, xc xcell, xi, a [3]float64, pi float64) (float64, float64) {
+	d2 := 0.0
+	var rel [3]float64
+	for a := 0; a < 3; a++ {
+		lo := xc.lo[a]
+		if d := lo - xi[a]; d > 0 {
+			d2 += d * d
+		} else if d := xi[a] - lo - ix.g[a]; d > 0 {
+			d2 += d * d
+		}
+		rel[a] = lo + 0.5*ix.g[a] - xi[a]
+	}
+	c := int(xc.cell)
+	c0, c1, c2 := c%ix.dims[0], c/ix.dims[0]%ix.dims[1], c/(ix.dims[0]*ix.dims[1])
+	w := cellW(ix, out, int(ix.crank[c]), ix.blockOf(c0, c1, c2), rel, a)
+	return d2, pi - w
+}
+
+// cell computes the cell of the point at sorted position q, the k-th of the
+// current block (frame wk.f), and stores it as the block's entry k. Faces
+// are tagged with the sorted position of the other point (so that the tags
+// of a cell are near q in memory), and with wallTag or virtTag. The cell is
+// cut by the points of the offsets within offChunk that lie in the block
+// neighbourhood and by those of the grid cells extra. With warm, prev lists
+// the sorted positions of the neighbours in the previous call.
+func (wk *worker) cell(ix *Index, out *Cells, q, kq int, a [3]float64, warm bool, prev []int32, extra []xcell) {
+	f := &wk.f
 	p := &wk.p
 	xi := [3]float64{ix.xyz[3*q], ix.xyz[3*q+1], ix.xyz[3*q+2]}
 	pi := out.psi[q]
 	self := ix.order[q]
+	// rmax is the largest vertex distance of the current cell
+	var rmax float64
+	// δ = a − f.a widens the bound of the block's neighbourhood (see far)
+	var dA [3]float64
+	for k := 0; k < 3; k++ {
+		dA[k] = a[k] - f.a[k]
+	}
+	dAbs := math.Sqrt(dA[0]*dA[0] + dA[1]*dA[1] + dA[2]*dA[2])
 	var lo, hi [3]float64
 	var c [3]int
 	for k := 0; k < 3; k++ {
+		// the start in the frame: the box (periodic: the cube of side
+		// Hi−Lo about the point) translated by +a
 		if ix.opt.Periodic {
-			lo[k], hi[k] = -0.5*ix.ext[k], 0.5*ix.ext[k]
+			lo[k], hi[k] = -0.5*ix.ext[k]+a[k], 0.5*ix.ext[k]+a[k]
 		} else {
-			lo[k], hi[k] = ix.opt.Lo[k]-xi[k], ix.opt.Hi[k]-xi[k]
+			lo[k], hi[k] = ix.opt.Lo[k]-xi[k]+a[k], ix.opt.Hi[k]-xi[k]+a[k]
 		}
 		c[k] = ix.cellCoord(xi[k], k)
 	}
-	cpsi := pi - psiMax
+	// cloc bounds ψ_i − ψ_j + 2a·(p_j − p_i) from below for every point of
+	// the first search
+	// in the frame a, up to the term −2δ·(p_j − p_i) ≥ −2|δ|·d that
+	// lowerPlane(d, cloc) − |δ| accounts for
+	fa := f.a
+	cloc := pi - f.wloc - 2*(fa[0]*(xi[0]-f.c[0])+fa[1]*(xi[1]-f.c[1])+fa[2]*(xi[2]-f.c[2]))
+	locOut := func(d float64) bool { return lowerPlane(d, cloc)-dAbs >= rmax }
 	eps := epsRel * ix.scale
 	// The first attempt starts from the cube of half-side cubeRel·s about
-	// the point (within the box), with walls tagged virtTag, so that the
+	// the point (within the start), with walls tagged virtTag, so that the
 	// first candidates see a small cell and few of them cut it.
 	hv := cubeRel * ix.scale
 	virtual := false
@@ -337,30 +545,23 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 			vhi[k], tags[2*k+1], virtual = hv, virtTag, true
 		}
 	}
-	// rmax is the largest vertex distance of the current cell and reach²
-	// the squared distance beyond which no point's bisector can cut it
-	// (lowerPlane(d, cpsi) ≥ rmax for d ≥ reach).
-	var rmax, reach2 float64
-	setRmax := func(r2 float64) {
-		rmax = math.Sqrt(r2)
-		reach2 = math.Inf(-1)
-		if cpsi < r2 {
-			d := rmax + math.Sqrt(r2-cpsi)
-			reach2 = d * d * (1 + 1e-9)
-		}
-	}
+	setRmax := func(r2 float64) { rmax = math.Sqrt(r2) }
 
-	// scan gathers the points of grid cell number cell, shifted by a periodic
-	// image offset, whose bisector may cut the cell (plane distance t < rmax)
-	// into wk.cands. d2box is the squared distance from the point to the grid
-	// cell. It reports false when a coincident point of higher priority makes
-	// the cell empty.
-	scan := func(cell int, shift [3]float64, zeroShift bool, d2box float64) bool {
-		if d2box > 0 && d2box >= reach2 {
+	// scan gathers the points of grid cell number cell, shifted by a
+	// periodic image offset, whose bisector may cut the cell (plane
+	// distance t < rmax) into wk.cands. d2box is the squared distance from
+	// the point to the grid cell and cmin a lower bound on ψ_i − ψ_j +
+	// 2a·(p_j − p_i) over its points. It reports false when a coincident
+	// point of higher priority makes the cell empty.
+	scan := func(cell int, shift [3]float64, zeroShift bool, d2box, cmin float64) bool {
+		if lowerPlane(math.Sqrt(d2box), cmin) >= rmax {
 			return true
 		}
 		rmax2 := wk.rmax2()
-		for q2 := int(ix.start[cell]); q2 < int(ix.start[cell+1]); q2++ {
+		qa, qb := ix.cellPoints(cell)
+		wk.nCells++
+		wk.nPts += qb - qa
+		for q2 := qa; q2 < qb; q2++ {
 			if q2 == q && zeroShift {
 				continue
 			}
@@ -369,13 +570,13 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 			dz := ix.xyz[3*q2+2] + shift[2] - xi[2]
 			d2 := dx*dx + dy*dy + dz*dz
 			pj := out.psi[q2]
-			t2 := d2 + pi - pj
 			if d2 == 0 {
 				if pj > pi || (pj == pi && ix.order[q2] < self) {
 					return false
 				}
 				continue
 			}
+			t2 := d2 + pi - pj + 2*(a[0]*dx+a[1]*dy+a[2]*dz)
 			if t2 > 0 && t2*t2 >= 4*d2*rmax2 {
 				continue
 			}
@@ -391,43 +592,13 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 		return true
 	}
 
-	// collect scans grid cell c+o for any offset o (used beyond the
-	// precomputed offsets).
-	collect := func(o [3]int32) bool {
-		var shift [3]float64
-		cell := 0
-		d2box := 0.0
-		zeroShift := true
-		for k := 2; k >= 0; k-- {
-			ck := c[k] + int(o[k])
-			blo := ix.lo[k] + float64(ck)*ix.g[k]
-			if d := blo - xi[k]; d > 0 {
-				d2box += d * d
-			} else if d := xi[k] - blo - ix.g[k]; d > 0 {
-				d2box += d * d
-			}
-			if ix.opt.Periodic {
-				w := floorDiv(ck, ix.dims[k])
-				if w != 0 {
-					ck -= w * ix.dims[k]
-					shift[k] = float64(w) * ix.ext[k]
-					zeroShift = false
-				}
-			} else if ck < 0 || ck >= ix.dims[k] {
-				return true
-			}
-			cell = cell*ix.dims[k] + ck
-		}
-		return scan(cell, shift, zeroShift, d2box)
-	}
-
 	// Per-axis tables for the precomputed offsets −offChunk..offChunk:
-	// wrapped grid coordinate (−1 outside a clipped box), periodic shift and
-	// squared distance from the point to that slab of cells.
+	// wrapped grid coordinate (−1 outside a clipped box or the block
+	// neighbourhood), periodic shift, squared distance from the point to
+	// that slab of cells, block coordinate and centre relative to the point.
 	const nt = 2*offChunk + 1
-	var tcell [3][nt]int
-	var tshift [3][nt]float64
-	var td2 [3][nt]float64
+	var tcell, tblk [3][nt]int
+	var tshift, td2, trel [3][nt]float64
 	for k := 0; k < 3; k++ {
 		for m := -offChunk; m <= offChunk; m++ {
 			ck := c[k] + m
@@ -442,15 +613,14 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 				d = 0
 			}
 			td2[k][m+offChunk] = d * d
-			sh := 0.0
-			if ix.opt.Periodic {
-				w := floorDiv(ck, ix.dims[k])
-				ck -= w * ix.dims[k]
-				sh = float64(w) * ix.ext[k]
-			} else if ck < 0 || ck >= ix.dims[k] {
-				ck = -1
+			trel[k][m+offChunk] = blo + 0.5*ix.g[k] - xi[k]
+			cw, sh, ok := ix.unwrapCell(k, ck)
+			if !ok || ck < f.nlo[k] || ck >= f.nhi[k] {
+				cw = -1
+			} else {
+				tblk[k][m+offChunk] = int(ix.cblk[k][cw])
 			}
-			tcell[k][m+offChunk] = ck
+			tcell[k][m+offChunk] = cw
 			tshift[k][m+offChunk] = sh
 		}
 	}
@@ -461,10 +631,52 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 		if c0 < 0 || c1 < 0 || c2 < 0 {
 			return true
 		}
+		cell := (c2*ix.dims[1]+c1)*ix.dims[0] + c0
+		r := int(ix.crank[cell])
+		if ix.start[r] == ix.start[r+1] {
+			return true
+		}
+		blk := (tblk[2][i2]*ix.nb[1]+tblk[1][i1])*ix.nb[0] + tblk[0][i0]
+		w := cellW(ix, out, r, blk, [3]float64{trel[0][i0], trel[1][i1], trel[2][i2]}, a)
 		d2box := td2[0][i0] + td2[1][i1] + td2[2][i2]
 		shift := [3]float64{tshift[0][i0], tshift[1][i1], tshift[2][i2]}
 		zero := shift[0] == 0 && shift[1] == 0 && shift[2] == 0
-		return scan((c2*ix.dims[1]+c1)*ix.dims[0]+c0, shift, zero, d2box)
+		return scan(cell, shift, zero, d2box, pi-w)
+	}
+
+	// collectU scans the grid cell with unwrapped coordinates u.
+	collectU := func(u [3]int) bool {
+		var cw [3]int
+		var shift, rel [3]float64
+		d2box := 0.0
+		for k := 0; k < 3; k++ {
+			ck, sh, ok := ix.unwrapCell(k, u[k])
+			if !ok {
+				return true
+			}
+			cw[k], shift[k] = ck, sh
+			blo := ix.lo[k] + float64(u[k])*ix.g[k]
+			if d := blo - xi[k]; d > 0 {
+				d2box += d * d
+			} else if d := xi[k] - blo - ix.g[k]; d > 0 {
+				d2box += d * d
+			}
+			rel[k] = blo + 0.5*ix.g[k] - xi[k]
+		}
+		cell := (cw[2]*ix.dims[1]+cw[1])*ix.dims[0] + cw[0]
+		r := int(ix.crank[cell])
+		if ix.start[r] == ix.start[r+1] {
+			return true
+		}
+		w := cellW(ix, out, r, ix.blockOf(cw[0], cw[1], cw[2]), rel, a)
+		zero := shift[0] == 0 && shift[1] == 0 && shift[2] == 0
+		return scan(cell, shift, zero, d2box, pi-w)
+	}
+	// reachN is the largest Chebyshev distance from the point's grid cell
+	// to a grid cell of the block neighbourhood.
+	reachN := 0
+	for k := 0; k < 3; k++ {
+		reachN = max(reachN, c[k]-f.nlo[k], f.nhi[k]-1-c[k])
 	}
 
 	// flush clips by the collected candidates in order of increasing plane
@@ -478,7 +690,9 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 		// start the cell is mostly complete and few candidates cut, so
 		// they are taken as they come.
 		keys := wk.keys
-		if !warm {
+		if !warm && len(keys) > 48 {
+			slices.SortFunc(keys, func(x, y candKey) int { return cmp.Compare(x.t, y.t) })
+		} else if !warm {
 			for a := 1; a < len(keys); a++ {
 				k := keys[a]
 				b := a
@@ -522,9 +736,11 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 		empty = false
 		coincident := false
 		wk.cands, wk.keys = wk.cands[:0], wk.keys[:0]
-		done := false
+		// done: the cell is empty; near: no further point of the block
+		// neighbourhood can cut it (the grid cells extra still can)
+		done, near := false, false
 		if warm {
-			done = !wk.warmCuts(ix, out, q, xi, eps, prev, setRmax)
+			done = !wk.warmCuts(ix, out, q, xi, a, eps, prev, setRmax)
 			empty = done
 		}
 		for k := 0; k < len(ix.offs) && !done; {
@@ -533,8 +749,8 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 			// offChunk) have bounds from offChunk·gmin up, which can be
 			// below the cube's own largest bounds (its corners): the
 			// search may only stop at b when those are also out of reach.
-			if lowerPlane(min(b, offChunk*ix.gmin), cpsi) >= rmax {
-				done = true
+			if locOut(min(b, offChunk*ix.gmin)) {
+				near = true
 				break
 			}
 			for ; k < len(ix.offs) && ix.offs[k].b == b; k++ {
@@ -547,23 +763,26 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 				empty, done = true, true
 			}
 		}
-		maxDim := max(ix.dims[0], ix.dims[1], ix.dims[2])
-		for s := offChunk + 1; !done; s++ {
-			if !ix.opt.Periodic && s > maxDim {
+		// the rest of the block neighbourhood, shell by shell
+		for s := offChunk + 1; !done && !near && s <= reachN; s++ {
+			if locOut(float64(s-1) * ix.gmin) {
 				break
 			}
-			if lowerPlane(float64(s-1)*ix.gmin, cpsi) >= rmax {
-				break
+			var olo, ohi [3]int
+			for k := 0; k < 3; k++ {
+				olo[k], ohi[k] = max(-s, f.nlo[k]-c[k]), min(s, f.nhi[k]-1-c[k])
 			}
-			// all offsets with Chebyshev norm s
-			for o2 := -s; o2 <= s && !done; o2++ {
-				for o1 := -s; o1 <= s && !done; o1++ {
-					step := 1
-					if o2 != -s && o2 != s && o1 != -s && o1 != s {
-						step = 2 * s
-					}
-					for o0 := -s; o0 <= s; o0 += step {
-						if !collect([3]int32{int32(o0), int32(o1), int32(o2)}) {
+			for o2 := olo[2]; o2 <= ohi[2] && !done; o2++ {
+				for o1 := olo[1]; o1 <= ohi[1] && !done; o1++ {
+					face := o2 == -s || o2 == s || o1 == -s || o1 == s
+					for o0 := olo[0]; o0 <= ohi[0]; o0++ {
+						if !face && o0 != -s && o0 != s {
+							if o0 < s && s <= ohi[0] {
+								o0 = s - 1 // jump to +s
+							}
+							continue
+						}
+						if !collectU([3]int{c[0] + o0, c[1] + o1, c[2] + o2}) {
 							coincident, empty, done = true, true, true
 							break
 						}
@@ -572,6 +791,19 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 			}
 			if !done && !flush() {
 				empty, done = true, true
+			}
+		}
+		if !done && len(extra) > 0 {
+			for _, xc := range extra {
+				d2, cmin := wk.xcellBound(ix, out, xc, xi, a, pi)
+				zero := xc.shift[0] == 0 && xc.shift[1] == 0 && xc.shift[2] == 0
+				if !scan(int(xc.cell), xc.shift, zero, d2, cmin) {
+					coincident, empty, done = true, true, true
+					break
+				}
+			}
+			if !done && !flush() {
+				empty = true
 			}
 		}
 
@@ -589,6 +821,16 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 	var ftag []int32
 	var farea []float64
 	if !empty {
+		// the ball about the middle of the cell's bounding box, in box
+		// coordinates, and the power of the point there
+		mid, rho := wk.ball()
+		tb := wk.tball[5*kq : 5*kq+5]
+		pw := -pi
+		for k := 0; k < 3; k++ {
+			tb[k] = xi[k] + mid[k] - a[k]
+			pw += (mid[k] - a[k]) * (mid[k] - a[k])
+		}
+		tb[3], tb[4] = rho, pw
 		if wk.slow {
 			vol, cen = p.measure()
 			ftag, farea = p.ftag, p.farea
@@ -597,61 +839,55 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 			ftag, farea = wk.g.ftag, wk.g.farea
 		}
 	}
+	wk.tOff[kq] = int32(len(wk.tn))
 	if vol <= 0 {
 		out.Volume[self] = 0
 		copy(out.Centroid[3*self:3*self+3], xi[:])
-		cb.cnt = append(cb.cnt, 0)
-		if wb != nil {
-			wb.cnt = append(wb.cnt, 0)
-		}
-		cb.empty++
+		wk.tCnt[kq] = 0
+		wk.trmax[kq] = -1
 		return
 	}
+	wk.trmax[kq] = rmax
 	out.Volume[self] = vol
 	for k := 0; k < 3; k++ {
-		out.Centroid[3*self+int32(k)] = xi[k] + cen[k]
+		out.Centroid[3*self+int32(k)] = xi[k] + cen[k] - a[k]
 	}
 
 	// neighbours: sort faces by original index (insertion sort, about 15
 	// faces), merge repeated ones (several images of one point), drop
 	// walls, self-images and rounding slivers.
 	wk.pairs = wk.pairs[:0]
-	for f, t := range ftag {
+	for fc, t := range ftag {
 		if t < 0 || t == int32(q) {
 			continue
 		}
 		j := ix.order[t]
-		a := farea[f]
+		ar := farea[fc]
 		k := len(wk.pairs)
 		wk.pairs = append(wk.pairs, nbrArea{})
 		for k > 0 && wk.pairs[k-1].j > j {
 			wk.pairs[k] = wk.pairs[k-1]
 			k--
 		}
-		wk.pairs[k] = nbrArea{j, t, a}
+		wk.pairs[k] = nbrArea{j, t, ar}
 	}
 	minArea := areaRel * ix.scale * ix.scale
 	m := int32(0)
 	for k := 0; k < len(wk.pairs); {
-		j, t, a := wk.pairs[k].j, wk.pairs[k].q, wk.pairs[k].a
+		j, t, ar := wk.pairs[k].j, wk.pairs[k].q, wk.pairs[k].a
 		k++
 		for k < len(wk.pairs) && wk.pairs[k].j == j {
-			a += wk.pairs[k].a
+			ar += wk.pairs[k].a
 			k++
 		}
-		if a > minArea {
-			cb.nbr = append(cb.nbr, j)
-			if wb != nil {
-				wb.nq = append(wb.nq, t)
-			}
-			cb.area = append(cb.area, a)
+		if ar > minArea {
+			wk.tn = append(wk.tn, j)
+			wk.tq = append(wk.tq, t)
+			wk.ta = append(wk.ta, ar)
 			m++
 		}
 	}
-	cb.cnt = append(cb.cnt, m)
-	if wb != nil {
-		wb.cnt = append(wb.cnt, m)
-	}
+	wk.tCnt[kq] = m
 }
 
 // warmCuts cuts the current cell of the point at sorted position q (at xi)
@@ -662,7 +898,7 @@ func (wk *worker) cell(ix *Index, out *Cells, cb *chunkBuf, q int, psiMax float6
 // periodic mode, so a marked point is the same plane when the search meets
 // it unshifted; neighbours through the periodic boundary are left to the
 // search. It reports false when the cell became empty.
-func (wk *worker) warmCuts(ix *Index, out *Cells, q int, xi [3]float64, eps float64, prev []int32, setRmax func(float64)) bool {
+func (wk *worker) warmCuts(ix *Index, out *Cells, q int, xi, a [3]float64, eps float64, prev []int32, setRmax func(float64)) bool {
 	if len(wk.mark) < ix.n {
 		wk.mark = make([]uint32, ix.n)
 		wk.stamp = 0
@@ -688,7 +924,7 @@ func (wk *worker) warmCuts(ix *Index, out *Cells, q int, xi [3]float64, eps floa
 		if d2 == 0 {
 			continue
 		}
-		t2 := d2 + pi - out.psi[q2]
+		t2 := d2 + pi - out.psi[q2] + 2*(a[0]*dx+a[1]*dy+a[2]*dz)
 		// here a key holds the sorted position, not an index into cands
 		keys = append(keys, candKey{t2 / (2 * math.Sqrt(d2)), q2})
 	}
@@ -709,7 +945,7 @@ func (wk *worker) warmCuts(ix *Index, out *Cells, q int, xi [3]float64, eps floa
 		dy := ix.xyz[3*q2+1] - xi[1]
 		dz := ix.xyz[3*q2+2] - xi[2]
 		d2 := dx*dx + dy*dy + dz*dz
-		t2 := d2 + pi - out.psi[q2]
+		t2 := d2 + pi - out.psi[q2] + 2*(a[0]*dx+a[1]*dy+a[2]*dz)
 		switch wk.clip(dx, dy, dz, 0.5*t2, eps*math.Sqrt(d2), q2) {
 		case clipEmpty:
 			return false
@@ -739,6 +975,45 @@ func (wk *worker) clip(nx, ny, nz, off, tol float64, tag int32) int {
 		wk.degen++
 	}
 	return wk.p.clip(nx, ny, nz, off, tol, tag)
+}
+
+// ball returns the middle of the bounding box of the current cell's
+// vertices and the largest vertex distance from it.
+func (wk *worker) ball() (mid [3]float64, rho float64) {
+	lo := [3]float64{math.Inf(1), math.Inf(1), math.Inf(1)}
+	hi := [3]float64{math.Inf(-1), math.Inf(-1), math.Inf(-1)}
+	if wk.slow {
+		v := wk.p.v
+		for i := 0; i+2 < len(v); i += 3 {
+			for k := 0; k < 3; k++ {
+				lo[k], hi[k] = math.Min(lo[k], v[i+k]), math.Max(hi[k], v[i+k])
+			}
+		}
+		for k := 0; k < 3; k++ {
+			mid[k] = 0.5 * (lo[k] + hi[k])
+		}
+		r2 := 0.0
+		for i := 0; i+2 < len(v); i += 3 {
+			dx, dy, dz := v[i]-mid[0], v[i+1]-mid[1], v[i+2]-mid[2]
+			r2 = math.Max(r2, dx*dx+dy*dy+dz*dz)
+		}
+		return mid, math.Sqrt(r2) * (1 + 1e-12)
+	}
+	vs := wk.g.v[:wk.g.nv]
+	for i := range vs {
+		for k := 0; k < 3; k++ {
+			lo[k], hi[k] = math.Min(lo[k], vs[i][k]), math.Max(hi[k], vs[i][k])
+		}
+	}
+	for k := 0; k < 3; k++ {
+		mid[k] = 0.5 * (lo[k] + hi[k])
+	}
+	r2 := 0.0
+	for i := range vs {
+		dx, dy, dz := vs[i][0]-mid[0], vs[i][1]-mid[1], vs[i][2]-mid[2]
+		r2 = math.Max(r2, dx*dx+dy*dy+dz*dz)
+	}
+	return mid, math.Sqrt(r2) * (1 + 1e-12)
 }
 
 // hasVirtual reports whether the current cell has a face on the virtual

@@ -54,8 +54,15 @@ const epsRel = 1e-11
 const areaRel = 1e-9
 
 // offChunk is the Chebyshev radius (in grid cells) of the precomputed,
-// distance-sorted neighbour-cell offsets; farther shells are scanned lazily.
+// distance-sorted neighbour-cell offsets that a cell's first search visits;
+// farther grid cells are reached through the block test (see blocks.go).
 const offChunk = 4
+
+// blockCells is the smallest number of grid cells per axis in a block (a
+// block holds blockCells to 2·blockCells−1 of them unless the grid is
+// smaller). It must be at least offChunk, so that the offsets of the first
+// search never leave the 3×3×3 blocks around a point's block.
+const blockCells = 4
 
 // Index is a uniform grid over a fixed set of points, built once and reused
 // while the weights change (as in a transport solver's Newton iterations).
@@ -69,11 +76,22 @@ type Index struct {
 	dims  [3]int     // grid cells per axis
 	g     [3]float64 // grid cell size per axis
 	gmin  float64    // smallest grid cell size
-	start []int32    // first sorted position of each grid cell, len ncell+1
-	xyz   []float64  // points sorted by grid cell (wrapped into the box if periodic), 3 per point
+	start []int32    // first sorted position of each grid cell by rank (crank), len ncell+1
+	xyz   []float64  // points sorted by block, then grid cell (wrapped into the box if periodic), 3 per point
 	order []int32    // sorted position → original index
 	scale float64    // mean spacing (box volume / n)^(1/3)
 	offs  []gridOff  // neighbour-cell offsets sorted by lower distance bound
+
+	// Blocks: the grid is cut along each axis into nb[k] runs of grid
+	// cells, bcut[k][b] ≤ c < bcut[k][b+1], and points are sorted block by
+	// block (row-major over blocks, then over the cells of a block).
+	nb     [3]int
+	bcut   [3][]int32 // first grid coordinate of each block, len nb+1
+	cblk   [3][]int32 // block coordinate of each grid coordinate
+	crank  []int32    // cell number → rank in block-major cell order
+	brank  []int32    // first cell rank of each block, len nblock+1
+	bext   [3]float64 // smallest block extent per axis
+	bextHi [3]float64 // largest block extent per axis
 }
 
 // gridOff is a neighbour-cell offset and a lower bound on the distance from
@@ -134,8 +152,9 @@ func newIndex(xyz []float64, opt Options, uniform bool) (*Index, error) {
 		ncell *= d
 	}
 	ix.gmin = math.Min(ix.g[0], math.Min(ix.g[1], ix.g[2]))
+	ix.makeBlocks()
 
-	// counting sort of the points by grid cell
+	// counting sort of the points by cell rank (block-major)
 	pts := make([]float64, 3*n)
 	cellOf := make([]int32, n)
 	ix.start = make([]int32, ncell+1)
@@ -160,7 +179,7 @@ func newIndex(xyz []float64, opt Options, uniform bool) (*Index, error) {
 			pts[3*i+k] = x
 			c[k] = ix.cellCoord(x, k)
 		}
-		cellOf[i] = int32((c[2]*ix.dims[1]+c[1])*ix.dims[0] + c[0])
+		cellOf[i] = ix.crank[(c[2]*ix.dims[1]+c[1])*ix.dims[0]+c[0]]
 		ix.start[cellOf[i]+1]++
 	}
 	for c := 0; c < ncell; c++ {
@@ -265,6 +284,58 @@ func (ix *Index) offBound(o [3]int32) float64 {
 		}
 	}
 	return math.Sqrt(s)
+}
+
+// makeBlocks cuts the grid into blocks and ranks the cells block by block.
+func (ix *Index) makeBlocks() {
+	for k := 0; k < 3; k++ {
+		d := ix.dims[k]
+		nb := max(1, d/blockCells)
+		ix.nb[k] = nb
+		ix.bcut[k] = make([]int32, nb+1)
+		ix.cblk[k] = make([]int32, d)
+		ix.bext[k], ix.bextHi[k] = math.Inf(1), 0
+		for b := 0; b <= nb; b++ {
+			ix.bcut[k][b] = int32(b * d / nb)
+		}
+		for b := 0; b < nb; b++ {
+			for c := ix.bcut[k][b]; c < ix.bcut[k][b+1]; c++ {
+				ix.cblk[k][c] = int32(b)
+			}
+			e := float64(ix.bcut[k][b+1]-ix.bcut[k][b]) * ix.g[k]
+			ix.bext[k] = math.Min(ix.bext[k], e)
+			ix.bextHi[k] = math.Max(ix.bextHi[k], e)
+		}
+	}
+	nblock := ix.nb[0] * ix.nb[1] * ix.nb[2]
+	ix.crank = make([]int32, ix.dims[0]*ix.dims[1]*ix.dims[2])
+	ix.brank = make([]int32, nblock+1)
+	r := int32(0)
+	for b := 0; b < nblock; b++ {
+		ix.brank[b] = r
+		b0, b1, b2 := b%ix.nb[0], b/ix.nb[0]%ix.nb[1], b/(ix.nb[0]*ix.nb[1])
+		for c2 := ix.bcut[2][b2]; c2 < ix.bcut[2][b2+1]; c2++ {
+			for c1 := ix.bcut[1][b1]; c1 < ix.bcut[1][b1+1]; c1++ {
+				for c0 := ix.bcut[0][b0]; c0 < ix.bcut[0][b0+1]; c0++ {
+					ix.crank[(int(c2)*ix.dims[1]+int(c1))*ix.dims[0]+int(c0)] = r
+					r++
+				}
+			}
+		}
+	}
+	ix.brank[nblock] = r
+}
+
+// blockOf returns the block number of the grid cell with coordinates c.
+func (ix *Index) blockOf(c0, c1, c2 int) int {
+	return (int(ix.cblk[2][c2])*ix.nb[1]+int(ix.cblk[1][c1]))*ix.nb[0] + int(ix.cblk[0][c0])
+}
+
+// cellPoints returns the sorted positions [a, b) of the points in grid cell
+// number cell.
+func (ix *Index) cellPoints(cell int) (int, int) {
+	r := ix.crank[cell]
+	return int(ix.start[r]), int(ix.start[r+1])
 }
 
 func (ix *Index) cellCoord(x float64, k int) int {
