@@ -1,7 +1,6 @@
 package laguerre
 
 import (
-	"cmp"
 	"fmt"
 	"math"
 	"runtime"
@@ -545,7 +544,17 @@ func (wk *worker) cell(ix *Index, out *Cells, q, kq int, a [3]float64, warm bool
 			vhi[k], tags[2*k+1], virtual = hv, virtTag, true
 		}
 	}
-	setRmax := func(r2 float64) { rmax = math.Sqrt(r2) }
+	// reach2 is the squared distance beyond which no point of the block
+	// neighbourhood can cut the cell: lowerPlane(d, cloc) − |δ| ≥ rmax
+	var reach2 float64
+	setRmax := func(r2 float64) {
+		rmax = math.Sqrt(r2)
+		reach2 = math.Inf(-1)
+		if r := rmax + dAbs; r*r > cloc {
+			d := r + math.Sqrt(r*r-cloc)
+			reach2 = d * d * (1 + 1e-9)
+		}
+	}
 
 	// scan gathers the points of grid cell number cell, shifted by a
 	// periodic image offset, whose bisector may cut the cell (plane
@@ -554,7 +563,7 @@ func (wk *worker) cell(ix *Index, out *Cells, q, kq int, a [3]float64, warm bool
 	// 2a·(p_j − p_i) over its points. It reports false when a coincident
 	// point of higher priority makes the cell empty.
 	scan := func(cell int, shift [3]float64, zeroShift bool, d2box, cmin float64) bool {
-		if lowerPlane(math.Sqrt(d2box), cmin) >= rmax {
+		if cmin > math.Inf(-1) && lowerPlane(math.Sqrt(d2box), cmin) >= rmax {
 			return true
 		}
 		rmax2 := wk.rmax2()
@@ -594,11 +603,11 @@ func (wk *worker) cell(ix *Index, out *Cells, q, kq int, a [3]float64, warm bool
 
 	// Per-axis tables for the precomputed offsets −offChunk..offChunk:
 	// wrapped grid coordinate (−1 outside a clipped box or the block
-	// neighbourhood), periodic shift, squared distance from the point to
-	// that slab of cells, block coordinate and centre relative to the point.
+	// neighbourhood), periodic shift and squared distance from the point to
+	// that slab of cells.
 	const nt = 2*offChunk + 1
-	var tcell, tblk [3][nt]int
-	var tshift, td2, trel [3][nt]float64
+	var tcell [3][nt]int
+	var tshift, td2 [3][nt]float64
 	for k := 0; k < 3; k++ {
 		for m := -offChunk; m <= offChunk; m++ {
 			ck := c[k] + m
@@ -613,12 +622,9 @@ func (wk *worker) cell(ix *Index, out *Cells, q, kq int, a [3]float64, warm bool
 				d = 0
 			}
 			td2[k][m+offChunk] = d * d
-			trel[k][m+offChunk] = blo + 0.5*ix.g[k] - xi[k]
 			cw, sh, ok := ix.unwrapCell(k, ck)
 			if !ok || ck < f.nlo[k] || ck >= f.nhi[k] {
 				cw = -1
-			} else {
-				tblk[k][m+offChunk] = int(ix.cblk[k][cw])
 			}
 			tcell[k][m+offChunk] = cw
 			tshift[k][m+offChunk] = sh
@@ -631,17 +637,14 @@ func (wk *worker) cell(ix *Index, out *Cells, q, kq int, a [3]float64, warm bool
 		if c0 < 0 || c1 < 0 || c2 < 0 {
 			return true
 		}
-		cell := (c2*ix.dims[1]+c1)*ix.dims[0] + c0
-		r := int(ix.crank[cell])
-		if ix.start[r] == ix.start[r+1] {
+		d2box := td2[0][i0] + td2[1][i1] + td2[2][i2]
+		if d2box > 0 && d2box >= reach2 {
 			return true
 		}
-		blk := (tblk[2][i2]*ix.nb[1]+tblk[1][i1])*ix.nb[0] + tblk[0][i0]
-		w := cellW(ix, out, r, blk, [3]float64{trel[0][i0], trel[1][i1], trel[2][i2]}, a)
-		d2box := td2[0][i0] + td2[1][i1] + td2[2][i2]
+		cell := (c2*ix.dims[1]+c1)*ix.dims[0] + c0
 		shift := [3]float64{tshift[0][i0], tshift[1][i1], tshift[2][i2]}
 		zero := shift[0] == 0 && shift[1] == 0 && shift[2] == 0
-		return scan(cell, shift, zero, d2box, pi-w)
+		return scan(cell, shift, zero, d2box, math.Inf(-1))
 	}
 
 	// collectU scans the grid cell with unwrapped coordinates u.
@@ -662,6 +665,9 @@ func (wk *worker) cell(ix *Index, out *Cells, q, kq int, a [3]float64, warm bool
 				d2box += d * d
 			}
 			rel[k] = blo + 0.5*ix.g[k] - xi[k]
+		}
+		if d2box > 0 && d2box >= reach2 {
+			return true
 		}
 		cell := (cw[2]*ix.dims[1]+cw[1])*ix.dims[0] + cw[0]
 		r := int(ix.crank[cell])
@@ -690,8 +696,17 @@ func (wk *worker) cell(ix *Index, out *Cells, q, kq int, a [3]float64, warm bool
 		// start the cell is mostly complete and few candidates cut, so
 		// they are taken as they come.
 		keys := wk.keys
-		if !warm && len(keys) > 48 {
-			slices.SortFunc(keys, func(x, y candKey) int { return cmp.Compare(x.t, y.t) })
+		if !warm && len(keys) > 256 {
+			// the long lists of the far grid cells
+			slices.SortFunc(keys, func(x, y candKey) int {
+				if x.t < y.t {
+					return -1
+				}
+				if x.t > y.t {
+					return 1
+				}
+				return 0
+			})
 		} else if !warm {
 			for a := 1; a < len(keys); a++ {
 				k := keys[a]
