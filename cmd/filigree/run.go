@@ -39,6 +39,7 @@ type runFlags struct {
 	seed         uint64
 	plots        string
 	recon        string
+	resamples    int
 	reconSmooth  float64
 	lagrThresh   float64
 	reconTol     float64
@@ -64,6 +65,7 @@ func (f *runFlags) register(fs *pflag.FlagSet) {
 	fs.StringVar(&f.recon, "recon", "zeldovich", "reconstruction of Lagrangian positions: zeldovich (FFT baseline), transport (optimal transport; slow in survey mode, see README) or none")
 	fs.Float64Var(&f.reconSmooth, "recon-smooth", 0, "Gaussian smoothing R_L (Mpc/h) of the Lagrangian classification and the Zel'dovich estimate (default: R)")
 	fs.Float64Var(&f.lagrThresh, "lagr-threshold", math.NaN(), fmt.Sprintf("eigenvalue threshold λ_L of the Lagrangian web code (default %g)", web.DefaultThreshold))
+	fs.IntVar(&f.resamples, "recon-resamples", 2, "bootstrap resamples of the reconstruction for web_agree (each costs about one tessellation and reconstruction; 0: none)")
 	fs.Float64Var(&f.reconTol, "recon-tol", 0, "optimal-transport tolerance on every cell's relative volume error (default 1e-3)")
 	fs.StringVar(&f.rsdMode, "rsd", "full", "redshift-space treatment (survey mode): none, fog (compress fingers of god of FoF groups) or full (fog, then the linear Kaiser correction)")
 	fs.Float64Var(&f.bias, "bias", 1, "linear bias of the galaxies, for the Kaiser correction")
@@ -134,7 +136,10 @@ func runRun(a *app, fs *pflag.FlagSet, f *runFlags, path string) error {
 	default:
 		return usagef("--recon: expected transport, zeldovich or none, got %q", f.recon)
 	}
-	opt.Recon = pipeline.ReconOptions{Mode: f.recon, Bias: f.bias, Smooth: f.reconSmooth, Threshold: f.lagrThresh, Tol: f.reconTol}
+	if f.resamples < 0 {
+		return usagef("--recon-resamples: expected 0 or more, got %d", f.resamples)
+	}
+	opt.Recon = pipeline.ReconOptions{Mode: f.recon, Bias: f.bias, Smooth: f.reconSmooth, Threshold: f.lagrThresh, Tol: f.reconTol, Resamples: f.resamples}
 	opt.Progress = func(step string) { a.progress.Start(step, 0) }
 	endSteps := a.progress.Finish
 	t0 := time.Now()
@@ -640,6 +645,9 @@ func addReconColumns(a *app, t *survey.Table, res *pipeline.Result) error {
 		}
 	}
 	cols = append(cols, wl)
+	if r.WebAgree != nil {
+		flt("web_agree", "", fmt.Sprintf("fraction of %d bootstrap resamples drawing the galaxy that give it the same web_lagr", r.Resamples), r.WebAgree)
+	}
 	if r.VPecLOS != nil && t.Col("vpec_los") == nil {
 		flt("vpec_los", "km/s", "linear-theory line-of-sight peculiar velocity f a H Ψ·r̂ from the reconstruction", r.VPecLOS)
 		flt("z_cosmo", "", "redshift with the line-of-sight peculiar velocity removed: (1+z) = (1+z_cosmo)(1+v/c)", r.ZCosmo)
@@ -648,6 +656,27 @@ func addReconColumns(a *app, t *survey.Table, res *pipeline.Result) error {
 		return err
 	}
 	msg := fmt.Sprintf("reconstruction (%s): Lagrangian web at R_L = %.3g Mpc/h, λ_L = %g; mass fractions %s", r.Mode, r.R, r.Threshold, fractionText(r.MassFraction))
+	recSum := map[string]any{}
+	if r.WebAgree != nil {
+		var s float64
+		var c int
+		for _, v := range r.WebAgree {
+			if !math.IsNaN(v) {
+				s += v
+				c++
+			}
+		}
+		mean := math.NaN()
+		if c > 0 {
+			mean = s / float64(c)
+		}
+		msg += fmt.Sprintf("; web_agree over %d bootstrap resamples: mean %.2f (%.1f s)", r.Resamples, mean, r.ResampleSeconds)
+		recSum["resamples"] = r.Resamples
+		recSum["resample_seconds"] = r.ResampleSeconds
+		if c > 0 { // JSON has no NaN
+			recSum["web_agree_mean"] = mean
+		}
+	}
 	if st := r.Transport; st != nil && len(st.Levels) > 0 {
 		lv := st.Levels[len(st.Levels)-1]
 		last := lv.StartMaxErr
@@ -662,7 +691,8 @@ func addReconColumns(a *app, t *survey.Table, res *pipeline.Result) error {
 	for c, name := range webNames {
 		mf[name] = r.MassFraction[c]
 	}
-	a.summary.Set("recon", map[string]any{"mode": r.Mode, "smooth_mpch": r.R, "threshold": r.Threshold, "lagr_mass_fractions": mf, "points": r.Points})
+	recSum["mode"], recSum["smooth_mpch"], recSum["threshold"], recSum["lagr_mass_fractions"], recSum["points"] = r.Mode, r.R, r.Threshold, mf, r.Points
+	a.summary.Set("recon", recSum)
 	return nil
 }
 

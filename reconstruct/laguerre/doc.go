@@ -20,10 +20,23 @@
 // visiting grid cells in order of a lower bound on their distance and, within
 // a ring of equal bound, cutting by planes in order of increasing distance.
 // A point at distance d lies on a bisector at distance (d² + ψ_i − ψ_j)/(2d)
-// from p_i; with ψ_j ≤ ψ_max this is at least lowerPlane(d), so the search
-// stops once that bound reaches the largest vertex distance of the current
-// cell. Cells are independent, so they are computed in parallel and the
-// result does not depend on the number of threads.
+// from p_i; with ψ_j bounded above this is at least lowerPlane(d), so the
+// search stops once that bound reaches the largest vertex distance of the
+// current cell. Cells are independent, so they are computed in parallel and
+// the result does not depend on the number of threads.
+//
+// Transport weights are far from equal: they grow like 2Ψ·p across the
+// box (Ψ the displacement), and a cell lies about |Ψ| from its point. The
+// grid is therefore cut into blocks of at least blockCells grid cells per
+// axis, each with a frame a fitted to its weights (ψ ≈ c + 2a·p); a cell is
+// computed in the frame of its point (the block's, or with a previous
+// result the point's previous displacement), where it lies near its point,
+// since the cells of ψ − 2a·p are those of ψ translated by −a. Weight
+// bounds are kept per grid cell and per block in their own frames. A cell
+// is cut first by the points of the 3×3×3 blocks around its block; then,
+// per octant of a block, a test on the bounding balls of the cells rules
+// out the farther blocks, and a cell that a farther grid cell may still
+// reach is computed again with it (blocks.go has the bounds).
 //
 // The first attempt at a cell starts from the smaller cube of half-side
 // 2.5 s about the point (clipped to the box); if a face of that cube

@@ -26,9 +26,11 @@ type Options struct {
 	// WarmStart makes Index.Compute cut every cell first by the bisectors
 	// of its neighbours in the result already held in the Cells (when the
 	// same Index filled it last, without error), as a transport solver
-	// does when the weights change little between calls. The search for
-	// further planes is the same as without it, so the cells are still
-	// exact, but the cuts come in another order: results may differ from a
+	// does when the weights change little between calls, and computes
+	// each cell in the frame of its previous displacement (point minus
+	// centroid; see the package comment). The search for further planes is
+	// the same as without it, so the cells are still exact, but the cuts
+	// come in another order and another frame: results may differ from a
 	// cold computation by rounding (last bits), and then depend on the
 	// previous call. They still do not depend on Threads. Without a usable
 	// previous result the computation is cold. The Cells then keeps a

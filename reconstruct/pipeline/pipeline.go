@@ -325,6 +325,9 @@ func RunSurvey(in Survey, opt Options) (*Result, error) {
 	if err := reconstruct(st, res, use, gm, fxyz, fill.Mass, rho, g, false, 0, in.Model, in.Z, opt.Recon); err != nil {
 		return nil, err
 	}
+	if err := agreement(st, res, use, gm, fxyz, fill.Mass, g, false, 0, in.Z, opt); err != nil {
+		return nil, err
+	}
 	st.stop()
 	return res, nil
 }
@@ -378,6 +381,9 @@ func RunBox(xyz []float64, L float64, weights []float64, opt Options) (*Result, 
 	st.start("fractions")
 	fractions(res, use)
 	if err := reconstruct(st, res, use, mass, nil, 0, rho, g, true, L, nil, nil, opt.Recon); err != nil {
+		return nil, err
+	}
+	if err := agreement(st, res, use, res.Weight, nil, 0, g, true, L, nil, opt); err != nil {
 		return nil, err
 	}
 	st.stop()

@@ -44,7 +44,7 @@ func TestRunBoxThreadIndependent(t *testing.T) {
 	run := func(procs int) *Result {
 		old := runtime.GOMAXPROCS(procs)
 		defer runtime.GOMAXPROCS(old)
-		r, err := RunBox(xyz, L, nil, Options{Threshold: math.NaN(), Seed: 9, Recon: ReconOptions{Mode: ReconZeldovich, Threshold: math.NaN()}})
+		r, err := RunBox(xyz, L, nil, Options{Threshold: math.NaN(), Seed: 9, Recon: ReconOptions{Mode: ReconZeldovich, Threshold: math.NaN(), Resamples: 3}})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -60,6 +60,23 @@ func TestRunBoxThreadIndependent(t *testing.T) {
 	same("delta", a.Delta, b.Delta)
 	same("tidal_l1", a.L1, b.L1)
 	same("lagrangian positions", a.Recon.Lagr, b.Recon.Lagr)
+	same("web_agree", a.Recon.WebAgree, b.Recon.WebAgree)
+	// every galaxy is drawn by one of 3 resamples with probability
+	// 1 − e⁻³ ≈ 0.95; agreement is a fraction
+	drawn, sum := 0, 0.0
+	for _, v := range a.Recon.WebAgree {
+		if !math.IsNaN(v) {
+			drawn++
+			sum += v
+			if v < 0 || v > 1 {
+				t.Fatalf("web_agree %g outside [0, 1]", v)
+			}
+		}
+	}
+	if f := float64(drawn) / 4000; math.Abs(f-(1-math.Exp(-3))) > 0.02 {
+		t.Errorf("%.3f of the points drawn by some resample, want 1 − e⁻³ = %.3f", f, 1-math.Exp(-3))
+	}
+	t.Logf("mean web_agree %.3f over %d points (%.2f s for 3 resamples)", sum/float64(drawn), drawn, a.Recon.ResampleSeconds)
 	if !slices.Equal(a.Web, b.Web) {
 		t.Error("web labels differ between 1 and 2 threads")
 	}
@@ -79,5 +96,26 @@ func TestRunBoxThreadIndependent(t *testing.T) {
 	}
 	if len(inClump) == 0 {
 		t.Fatal("no point near the clump centre")
+	}
+}
+
+// poisson1 draws Poisson(1) multiplicities: mean 1 and P(0) = e⁻¹ (the
+// bootstrap's share of left-out galaxies, Efron 1979).
+func TestPoisson1(t *testing.T) {
+	rng := rand.New(rand.NewPCG(1, 2))
+	const n = 200000
+	zeros, sum := 0, 0
+	for range n {
+		k := poisson1(rng)
+		sum += k
+		if k == 0 {
+			zeros++
+		}
+	}
+	if m := float64(sum) / n; math.Abs(m-1) > 0.01 {
+		t.Errorf("mean %.4f, want 1", m)
+	}
+	if p := float64(zeros) / n; math.Abs(p-math.Exp(-1)) > 0.005 {
+		t.Errorf("P(0) = %.4f, want e⁻¹ = %.4f", p, math.Exp(-1))
 	}
 }

@@ -42,6 +42,9 @@ type ReconOptions struct {
 	// CoarseFactor sets the spacing of the coarse fill that covers the rest
 	// of the transport box, in mean separations (0: 3).
 	CoarseFactor float64
+	// Resamples is the number K of bootstrap resamples for WebAgree (0:
+	// none).
+	Resamples int
 }
 
 // ReconResult holds the reconstruction.
@@ -68,6 +71,12 @@ type ReconResult struct {
 	Psi    [3][]float64
 	Fields *web.Fields
 	Codes  []uint8
+	// WebAgree per galaxy: the fraction of the bootstrap resamples that
+	// drew it in which WebLagr is the same (NaN: none drew it, or no
+	// resamples); Resamples of them took ResampleSeconds.
+	WebAgree        []float64
+	Resamples       int
+	ResampleSeconds float64
 }
 
 // reconstruct runs the chosen reconstruction on the galaxies in use at
