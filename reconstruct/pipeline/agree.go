@@ -3,6 +3,7 @@ package pipeline
 import (
 	"math"
 	"math/rand/v2"
+	"runtime"
 	"time"
 
 	"github.com/filigree-survey/filigree/reconstruct/grid"
@@ -38,6 +39,9 @@ func agreement(st *stepper, res *Result, use []int, mass []float64, fillXYZ []fl
 	quiet.Progress = nil
 	sub := &stepper{o: &quiet, secs: map[string]float64{}}
 	for s := 0; s < k; s++ {
+		// the previous resample's grids are garbage: collect them now, so
+		// the heap does not grow to twice the main run's live grids
+		runtime.GC()
 		rng := rand.New(rand.NewPCG(opt.Seed^0x5eed_ba65, uint64(s)+1))
 		var useK []int
 		var massK []float64

@@ -182,21 +182,21 @@ func reconstruct(st *stepper, res *Result, use []int, mass []float64, fillXYZ []
 		if periodic {
 			gL = grid.Geometry{N: g.N, L: boxL}
 		}
-		psiGrid = web.GridDisplacement(tr.Lagr, tr.Disp, pm, gL)
+		// Ψ at the Lagrangian positions, smoothed once at R_L by
+		// normalised convolution (the particles are sparser than the grid)
+		if psiGrid, err = web.GridDisplacement(tr.Lagr, tr.Disp, pm, gL, rr.R); err != nil {
+			return err
+		}
 	default:
 		return fmt.Errorf("pipeline: reconstruction %q: want none, zeldovich or transport", opt.Mode)
 	}
 	if opt.Mode == ReconZeldovich {
 		st.start("Lagrangian classification")
 	}
-	// The deformation is smoothed once at R_L: the Zel'dovich Ψ already
-	// is (smoothing it again would give an effective √2·R_L), the
-	// transport Ψ, gridded from the cells, is not.
-	rDeform := rr.R
-	if opt.Mode == ReconZeldovich {
-		rDeform = 0
-	}
-	fields, err := web.Deformation(psiGrid, gL, rDeform)
+	// The deformation is smoothed once, at R_L: both the Zel'dovich Ψ and
+	// the gridded transport Ψ already are (smoothing again would give an
+	// effective √2·R_L).
+	fields, err := web.Deformation(psiGrid, gL, 0)
 	if err != nil {
 		return err
 	}

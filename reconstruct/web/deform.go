@@ -57,10 +57,18 @@ func Deformation(psi [3][]float64, g grid.Geometry, R float64) (*Fields, error) 
 }
 
 // GridDisplacement puts displacements known at Lagrangian positions q (flat
-// x, y, z, Mpc/h) onto the periodic grid g as mass-weighted cloud-in-cell
-// averages, Ψ(cell) = Σ m W Ψ / Σ m W (Hockney & Eastwood 1981 weights W);
-// cells that receive no mass get zero. mass nil means equal masses.
-func GridDisplacement(q, disp, mass []float64, g grid.Geometry) [3][]float64 {
+// x, y, z, Mpc/h) onto the periodic grid g as mass-weighted averages. With
+// R > 0 it is a normalised convolution (Knutsson & Westin 1993): the
+// cloud-in-cell assignments (Hockney & Eastwood 1981) of m·Ψ and of m are
+// both smoothed with a Gaussian of radius R and divided, Ψ(cell) =
+// G_R * Σ m W Ψ / G_R * Σ m W, so every cell gets the weighted mean of the
+// particles around it, however sparse they are against the grid; cells
+// where the smoothed mass is below 10⁻⁶ of its mean get zero. With R = 0
+// each cell gets the plain cloud-in-cell mean Σ m W Ψ / Σ m W, and cells
+// that receive no mass get zero (which biases any later smoothing towards
+// zero when particles are sparser than the grid). mass nil means equal
+// masses.
+func GridDisplacement(q, disp, mass []float64, g grid.Geometry, R float64) ([3][]float64, error) {
 	n := len(q) / 3
 	if len(disp) != 3*n || (mass != nil && len(mass) != n) {
 		panic("web: GridDisplacement: length mismatch")
@@ -72,8 +80,32 @@ func GridDisplacement(q, disp, mass []float64, g grid.Geometry) [3][]float64 {
 			m[i] = 1
 		}
 	}
+	var fft *grid.FFT
+	var dk []complex128
+	smooth := func(f []float64) {}
+	if R > 0 {
+		var err error
+		if fft, err = grid.NewFFT(g.N); err != nil {
+			return [3][]float64{}, fmt.Errorf("web: %w", err)
+		}
+		dk = make([]complex128, g.HalfLen())
+		smooth = func(f []float64) {
+			fft.Forward(dk, f)
+			grid.SmoothGaussian(dk, g, R)
+			fft.Inverse(f, dk)
+		}
+	}
 	den := make([]float64, g.Len())
 	grid.AssignCIC(den, g, q, m)
+	smooth(den)
+	floor := 0.0
+	if R > 0 {
+		tot := 0.0
+		for _, v := range den {
+			tot += v
+		}
+		floor = 1e-6 * tot / float64(len(den))
+	}
 	var out [3][]float64
 	w := make([]float64, n)
 	for a := 0; a < 3; a++ {
@@ -82,9 +114,10 @@ func GridDisplacement(q, disp, mass []float64, g grid.Geometry) [3][]float64 {
 		}
 		out[a] = make([]float64, g.Len())
 		grid.AssignCIC(out[a], g, q, w)
+		smooth(out[a])
 		parallel.For(g.Len(), 1<<14, func(lo, hi int) {
 			for c := lo; c < hi; c++ {
-				if den[c] > 0 && !math.IsInf(den[c], 0) {
+				if den[c] > floor && !math.IsInf(den[c], 0) {
 					out[a][c] /= den[c]
 				} else {
 					out[a][c] = 0
@@ -92,5 +125,5 @@ func GridDisplacement(q, disp, mass []float64, g grid.Geometry) [3][]float64 {
 			}
 		})
 	}
-	return out
+	return out, nil
 }
