@@ -18,6 +18,9 @@ go build -o "$dir/filigree" ./cmd/filigree
 fg="$dir/filigree"
 # REUSE=1 keeps the demo, the mock and the truth run already in DIR (the
 # truth run alone takes half an hour) and redoes only the survey runs.
+# RECON picks the reconstruction (default transport), MODES the --rsd
+# modes (default "none fog full"), RESAMPLES the bootstrap resamples for
+# web_agree (default 0).
 reuse() { [ "${REUSE:-0}" = 1 ] && [ -e "$1" ]; }
 reuse "$dir/demo/run-summary.json" || "$fg" demo -o "$dir/demo" --quiet >/dev/null
 reg="$dir/demo/footprint/lanternfish.reg"
@@ -29,11 +32,11 @@ TH=$(/usr/bin/python3 -c "import json;print(json.load(open('$dir/demo/run-summar
 echo "R = $R Mpc/h, threshold = $TH"
 reuse "$dir/truth-fields.fits" || /usr/bin/time -f "truth run: %e s, %M KB" "$fg" run "$dir/particles.fits" --box 600 --xyz-cols x,y,z --smooth "$R" --threshold "$TH" \
   -o "$dir/particles-web.parquet" --fields "$dir/truth-fields.fits" --quiet
-for mode in none fog full; do
+for mode in ${MODES:-none fog full}; do
   /usr/bin/time -f "run --rsd $mode: %e s, %M KB" "$fg" run "$dir/mock.fits" --footprint "$reg" --bias 1.3 --rsd $mode --smooth "$R" --threshold "$TH" \
-    --recon "${RECON:-transport}" -o "$dir/web-$mode.fits" --summary "$dir/run-$mode.json" --quiet
+    --recon "${RECON:-transport}" --recon-resamples "${RESAMPLES:-0}" -o "$dir/web-$mode.fits" --summary "$dir/run-$mode.json" --quiet
 done
-/usr/bin/python3 - "$dir" <<'PY'
+/usr/bin/python3 - "$dir" "${MODES:-none fog full}" <<'PY'
 import sys, json, numpy as np
 from astropy.io import fits
 from astropy.table import Table
@@ -79,7 +82,7 @@ def sample(name, p):
     a = truth[name].data  # NAXIS3 = x slowest: a[x, y, z]
     i = np.floor(p / h).astype(int) % n
     return a[i[:, 0], i[:, 1], i[:, 2]]
-for mode in ["none", "fog", "full"]:
+for mode in sys.argv[2].split():
     t = Table.read(d + f"/web-{mode}.fits")
     R = float(g["SMOOTH"])
     ok = (~t["web_tidal"].mask if hasattr(t["web_tidal"], "mask") else np.ones(len(t), bool)) & (np.asarray(t["edge_dist"]) > 2 * R)

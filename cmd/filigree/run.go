@@ -62,10 +62,10 @@ func (f *runFlags) register(fs *pflag.FlagSet) {
 	fs.StringVar(&f.fields, "fields", "", "also write the gridded fields (smoothed δ, tidal eigenvalues, web code) as a FITS cube file")
 	fs.Uint64Var(&f.seed, "seed", 1, "seed of the fill particles and the insertion order")
 	fs.StringVar(&f.plots, "plots", "", "also draw the run's figures (wedge, slice, sky, n(z), fractions, density) as PNG files into this directory")
-	fs.StringVar(&f.recon, "recon", "zeldovich", "reconstruction of Lagrangian positions: zeldovich (FFT baseline), transport (optimal transport; slow in survey mode, see README) or none")
+	fs.StringVar(&f.recon, "recon", "transport", "reconstruction of Lagrangian positions: transport (optimal transport, minutes for 10⁵ galaxies in survey mode), zeldovich (FFT baseline, seconds) or none")
 	fs.Float64Var(&f.reconSmooth, "recon-smooth", 0, "Gaussian smoothing R_L (Mpc/h) of the Lagrangian classification and the Zel'dovich estimate (default: R)")
 	fs.Float64Var(&f.lagrThresh, "lagr-threshold", math.NaN(), fmt.Sprintf("eigenvalue threshold λ_L of the Lagrangian web code (default %g)", web.DefaultThreshold))
-	fs.IntVar(&f.resamples, "recon-resamples", 2, "bootstrap resamples of the reconstruction for web_agree (each costs about one tessellation and reconstruction; 0: none)")
+	fs.IntVar(&f.resamples, "recon-resamples", -1, "bootstrap resamples K of the reconstruction for web_agree, each costing about one tessellation and reconstruction (default: 2 with --recon zeldovich, 0 with transport, where each is another transport solve)")
 	fs.Float64Var(&f.reconTol, "recon-tol", 0, "optimal-transport tolerance on every cell's relative volume error (default 1e-3)")
 	fs.StringVar(&f.rsdMode, "rsd", "full", "redshift-space treatment (survey mode): none, fog (compress fingers of god of FoF groups) or full (fog, then the linear Kaiser correction)")
 	fs.Float64Var(&f.bias, "bias", 1, "linear bias of the galaxies, for the Kaiser correction")
@@ -136,8 +136,14 @@ func runRun(a *app, fs *pflag.FlagSet, f *runFlags, path string) error {
 	default:
 		return usagef("--recon: expected transport, zeldovich or none, got %q", f.recon)
 	}
-	if f.resamples < 0 {
+	if f.resamples < -1 {
 		return usagef("--recon-resamples: expected 0 or more, got %d", f.resamples)
+	}
+	if f.resamples == -1 {
+		f.resamples = 0
+		if f.recon == pipeline.ReconZeldovich {
+			f.resamples = 2
+		}
 	}
 	opt.Recon = pipeline.ReconOptions{Mode: f.recon, Bias: f.bias, Smooth: f.reconSmooth, Threshold: f.lagrThresh, Tol: f.reconTol, Resamples: f.resamples}
 	opt.Progress = func(step string) { a.progress.Start(step, 0) }

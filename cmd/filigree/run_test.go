@@ -47,7 +47,7 @@ func TestRunSurveyAndBox(t *testing.T) {
 	}
 	out2 := filepath.Join(dir, "rb.parquet")
 	sum2 := filepath.Join(dir, "s2.json")
-	if code, _, e := run(t, "run", box, "--box", "200", "--xyz-cols", "x,y,z", "--recon", "transport", "-o", out2, "--summary", sum2, "--quiet"); code != exitOK {
+	if code, _, e := run(t, "run", box, "--box", "200", "--xyz-cols", "x,y,z", "--recon", "transport", "--recon-resamples", "2", "-o", out2, "--summary", sum2, "--quiet"); code != exitOK {
 		t.Fatalf("run --box: %s", e)
 	}
 	checkRunOutput(t, out2, sum2, false)
@@ -66,9 +66,15 @@ func checkReconOutput(t *testing.T, out string, L float64) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, c := range []string{"lagr_x", "lagr_y", "lagr_z", "disp_x", "disp_y", "disp_z", "deform_l1", "deform_l2", "deform_l3", "web_lagr"} {
+	for _, c := range []string{"lagr_x", "lagr_y", "lagr_z", "disp_x", "disp_y", "disp_z", "deform_l1", "deform_l2", "deform_l3", "web_lagr", "web_agree"} {
 		if tab.Col(c) == nil {
 			t.Fatalf("no column %q", c)
+		}
+	}
+	// web_agree is a fraction of 2 resamples (0, ½ or 1) or null
+	for i, v := range tab.Col("web_agree").F {
+		if !tab.Col("web_agree").IsNull(i) && v != 0 && v != 0.5 && v != 1 {
+			t.Fatalf("web_agree row %d is %g, want 0, 0.5 or 1", i, v)
 		}
 	}
 	var sxy, sxx, syy float64

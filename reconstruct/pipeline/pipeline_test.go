@@ -6,6 +6,10 @@ import (
 	"runtime"
 	"slices"
 	"testing"
+
+	"github.com/filigree-survey/filigree/reconstruct/grid"
+	"github.com/filigree-survey/filigree/reconstruct/web"
+	"github.com/filigree-survey/filigree/reconstruct/zeldovich"
 )
 
 // Grid sizes are the smallest 5-smooth even numbers (OEIS A051037) that
@@ -117,5 +121,45 @@ func TestPoisson1(t *testing.T) {
 	}
 	if p := float64(zeros) / n; math.Abs(p-math.Exp(-1)) > 0.005 {
 		t.Errorf("P(0) = %.4f, want e⁻¹ = %.4f", p, math.Exp(-1))
+	}
+}
+
+// The Zel'dovich deformation is computed as the tidal tensor of S_R δ/b:
+// the same eigenvalues as web.Deformation of the Zel'dovich displacement
+// (Ψ_k = i k S δ_k/(b k²), so −∂_jΨ_i = k_i k_j S δ_k/(b k²)), up to the
+// Nyquist planes that the smoothing empties.
+func TestZeldovichDeformationIsTidal(t *testing.T) {
+	g := grid.Geometry{N: 32, L: 64}
+	rng := rand.New(rand.NewPCG(5, 6))
+	rho := make([]float64, g.Len())
+	for i := range rho {
+		rho[i] = 1 + 0.5*rng.NormFloat64()
+	}
+	const r, b = 5.0, 1.3
+	fld, err := zeldovich.Displacement(rho, g, r, b)
+	if err != nil {
+		t.Fatal(err)
+	}
+	def, err := web.Deformation(fld.Psi, g, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	scaled := make([]float64, len(rho))
+	for i, v := range rho {
+		scaled[i] = v / b
+	}
+	tid, err := web.Tidal(scaled, g, r)
+	if err != nil {
+		t.Fatal(err)
+	}
+	worst, scale := 0.0, 0.0
+	for c := range def.L1 {
+		for _, p := range [][2]float32{{def.L1[c], tid.L1[c]}, {def.L2[c], tid.L2[c]}, {def.L3[c], tid.L3[c]}} {
+			worst = math.Max(worst, math.Abs(float64(p[0]-p[1])))
+			scale = math.Max(scale, math.Abs(float64(p[0])))
+		}
+	}
+	if worst > 1e-5*scale {
+		t.Errorf("eigenvalues differ by up to %.3g (largest %.3g)", worst, scale)
 	}
 }
