@@ -209,50 +209,49 @@ func (ix *Index) unwrapCell(k, u int) (c int, shift float64, ok bool) {
 
 // cellW is the bound W on ψ_j − 2a·(p_j − ref) over the points of the grid
 // cell of rank r in block blk, whose centre lies at rel from ref.
-func (f *frame) cellW(ix *Index, out *Cells, r, blk int, rel [3]float64) float64 {
-	return cellW(ix, out, r, blk, rel, f.a)
-}
-
-// cellW is the bound W on ψ_j − 2a·(p_j − ref) over the points of the grid
-// cell of rank r in block blk, whose centre lies at rel from ref.
 func cellW(ix *Index, out *Cells, r, blk int, rel, a [3]float64) float64 {
 	ad := out.bA[3*blk : 3*blk+3]
 	return out.cR[r] + math.Abs(ad[0]-a[0])*ix.g[0] + math.Abs(ad[1]-a[1])*ix.g[1] + math.Abs(ad[2]-a[2])*ix.g[2] -
 		2*(a[0]*rel[0]+a[1]*rel[1]+a[2]*rel[2])
 }
 
-// setup fills the frame vector and wloc of the block whose geometry f holds.
+// setup fills the frame vector and wloc of the block whose geometry f
+// holds, from the bounds of the 3×3×3 blocks of its neighbourhood.
 func (f *frame) setup(ix *Index, out *Cells, blk int) {
 	copy(f.a[:], out.bA[3*blk:3*blk+3])
 	f.absA = math.Sqrt(f.a[0]*f.a[0] + f.a[1]*f.a[1] + f.a[2]*f.a[2])
 	f.wloc = math.Inf(-1)
-	lo, hi := f.nlo, f.nhi
-	for u2 := lo[2]; u2 < hi[2]; u2++ {
-		c2, s2, ok2 := ix.unwrapCell(2, u2)
-		if !ok2 {
-			continue
-		}
-		for u1 := lo[1]; u1 < hi[1]; u1++ {
-			c1, s1, ok1 := ix.unwrapCell(1, u1)
-			if !ok1 {
-				continue
-			}
-			for u0 := lo[0]; u0 < hi[0]; u0++ {
-				c0, s0, ok0 := ix.unwrapCell(0, u0)
-				if !ok0 {
+	for o2 := -1; o2 <= 1; o2++ {
+		for o1 := -1; o1 <= 1; o1++ {
+			for o0 := -1; o0 <= 1; o0++ {
+				v := [3]int{f.b[0] + o0, f.b[1] + o1, f.b[2] + o2}
+				var vb [3]int
+				var lo, hi [3]float64
+				ok := true
+				for k := 0; k < 3; k++ {
+					if !ix.opt.Periodic && (v[k] < 0 || v[k] >= ix.nb[k]) {
+						ok = false
+						break
+					}
+					w := floorDiv(v[k], ix.nb[k])
+					vb[k] = v[k] - w*ix.nb[k]
+					lo[k] = ix.lo[k] + float64(ix.bcut[k][vb[k]])*ix.g[k] + float64(w)*ix.ext[k]
+					hi[k] = ix.lo[k] + float64(ix.bcut[k][vb[k]+1])*ix.g[k] + float64(w)*ix.ext[k]
+				}
+				if !ok {
 					continue
 				}
-				cell := (c2*ix.dims[1]+c1)*ix.dims[0] + c0
-				r := int(ix.crank[cell])
-				if ix.start[r] == ix.start[r+1] {
+				b := (vb[2]*ix.nb[1]+vb[1])*ix.nb[0] + vb[0]
+				if math.IsInf(out.bR[b], -1) {
 					continue
 				}
-				rel := [3]float64{
-					ix.lo[0] + (float64(c0)+0.5)*ix.g[0] + s0 - f.c[0],
-					ix.lo[1] + (float64(c1)+0.5)*ix.g[1] + s1 - f.c[1],
-					ix.lo[2] + (float64(c2)+0.5)*ix.g[2] + s2 - f.c[2],
+				w := out.bR[b]
+				for k := 0; k < 3; k++ {
+					w += math.Abs(out.bA[3*b+k]-f.a[k])*(hi[k]-lo[k]) - 2*f.a[k]*(0.5*(lo[k]+hi[k])-f.c[k])
 				}
-				f.wloc = math.Max(f.wloc, f.cellW(ix, out, r, ix.blockOf(c0, c1, c2), rel))
+				if w > f.wloc {
+					f.wloc = w
+				}
 			}
 		}
 	}

@@ -507,6 +507,7 @@ func (wk *worker) cell(ix *Index, out *Cells, q, kq int, a [3]float64, warm bool
 		dA[k] = a[k] - f.a[k]
 	}
 	dAbs := math.Sqrt(dA[0]*dA[0] + dA[1]*dA[1] + dA[2]*dA[2])
+	framed := a != [3]float64{}
 	var lo, hi [3]float64
 	var c [3]int
 	for k := 0; k < 3; k++ {
@@ -585,7 +586,10 @@ func (wk *worker) cell(ix *Index, out *Cells, q, kq int, a [3]float64, warm bool
 				}
 				continue
 			}
-			t2 := d2 + pi - pj + 2*(a[0]*dx+a[1]*dy+a[2]*dz)
+			t2 := d2 + pi - pj
+			if framed {
+				t2 += 2 * (a[0]*dx + a[1]*dy + a[2]*dz)
+			}
 			if t2 > 0 && t2*t2 >= 4*d2*rmax2 {
 				continue
 			}
@@ -997,36 +1001,49 @@ func (wk *worker) clip(nx, ny, nz, off, tol float64, tag int32) int {
 func (wk *worker) ball() (mid [3]float64, rho float64) {
 	lo := [3]float64{math.Inf(1), math.Inf(1), math.Inf(1)}
 	hi := [3]float64{math.Inf(-1), math.Inf(-1), math.Inf(-1)}
+	r2 := 0.0
 	if wk.slow {
 		v := wk.p.v
 		for i := 0; i+2 < len(v); i += 3 {
 			for k := 0; k < 3; k++ {
-				lo[k], hi[k] = math.Min(lo[k], v[i+k]), math.Max(hi[k], v[i+k])
+				if x := v[i+k]; x < lo[k] {
+					lo[k] = x
+				}
+				if x := v[i+k]; x > hi[k] {
+					hi[k] = x
+				}
 			}
 		}
 		for k := 0; k < 3; k++ {
 			mid[k] = 0.5 * (lo[k] + hi[k])
 		}
-		r2 := 0.0
 		for i := 0; i+2 < len(v); i += 3 {
 			dx, dy, dz := v[i]-mid[0], v[i+1]-mid[1], v[i+2]-mid[2]
-			r2 = math.Max(r2, dx*dx+dy*dy+dz*dz)
+			if d := dx*dx + dy*dy + dz*dz; d > r2 {
+				r2 = d
+			}
 		}
 		return mid, math.Sqrt(r2) * (1 + 1e-12)
 	}
 	vs := wk.g.v[:wk.g.nv]
 	for i := range vs {
 		for k := 0; k < 3; k++ {
-			lo[k], hi[k] = math.Min(lo[k], vs[i][k]), math.Max(hi[k], vs[i][k])
+			if x := vs[i][k]; x < lo[k] {
+				lo[k] = x
+			}
+			if x := vs[i][k]; x > hi[k] {
+				hi[k] = x
+			}
 		}
 	}
 	for k := 0; k < 3; k++ {
 		mid[k] = 0.5 * (lo[k] + hi[k])
 	}
-	r2 := 0.0
 	for i := range vs {
 		dx, dy, dz := vs[i][0]-mid[0], vs[i][1]-mid[1], vs[i][2]-mid[2]
-		r2 = math.Max(r2, dx*dx+dy*dy+dz*dz)
+		if d := dx*dx + dy*dy + dz*dz; d > r2 {
+			r2 = d
+		}
 	}
 	return mid, math.Sqrt(r2) * (1 + 1e-12)
 }
