@@ -39,11 +39,10 @@ import "math"
 // so the test made with the first cells stays valid.
 
 // xcell is a grid cell, outside the first search of a block's points, that
-// may cut some of their cells: its number, unwrapped grid coordinates,
-// periodic shift and unwrapped lower corner.
+// may cut some of their cells: its number, rank and block, periodic shift,
+// unwrapped box and centre, and the frame of its block.
 type xcell struct {
-	cell, r, blk int32 // number, rank, block
-	u            [3]int32
+	cell, r, blk int32
 	shift        [3]float64
 	lo, hi, c    [3]float64 // unwrapped box and centre
 	a            [3]float64 // frame of its block
@@ -257,19 +256,6 @@ func (f *frame) setup(ix *Index, out *Cells, blk int) {
 	}
 }
 
-// boxDist2 is the squared distance between the boxes [alo, ahi] and
-// [blo, bhi].
-func boxDist2(alo, ahi, blo, bhi [3]float64) float64 {
-	s := 0.0
-	for k := 0; k < 3; k++ {
-		d := math.Max(blo[k]-ahi[k], alo[k]-bhi[k])
-		if d > 0 {
-			s += d * d
-		}
-	}
-	return s
-}
-
 // ballSet is the bounding data of the cells of a block for the far test:
 // every cell i lies in the ball of radius ρ_i about x_i (box coordinates),
 // with power π_i = |p_i − x_i|² − ψ_i of its own point there. A point j can
@@ -371,16 +357,16 @@ func (wk *worker) far(ix *Index, out *Cells, f *frame, bs *ballSet, rmax, m, da 
 					step = 2 * s
 				}
 				for o0 := -s; o0 <= s; o0 += step {
-					wk.testBlock(ix, out, f, bs, [3]int{f.b[0] + o0, f.b[1] + o1, f.b[2] + o2})
+					wk.testBlock(ix, out, bs, [3]int{f.b[0] + o0, f.b[1] + o1, f.b[2] + o2})
 				}
 			}
 		}
 	}
 }
 
-// testBlock tests the unwrapped block v against block f and, when its
+// testBlock tests the unwrapped block v against the ball set bs and, when its
 // bound does not rule it out, tests its grid cells.
-func (wk *worker) testBlock(ix *Index, out *Cells, f *frame, bs *ballSet, v [3]int) {
+func (wk *worker) testBlock(ix *Index, out *Cells, bs *ballSet, v [3]int) {
 	var vb [3]int
 	var lo, hi, shift [3]float64
 	for k := 0; k < 3; k++ {
@@ -408,26 +394,21 @@ func (wk *worker) testBlock(ix *Index, out *Cells, f *frame, bs *ballSet, v [3]i
 	for c2 := int(ix.bcut[2][vb[2]]); c2 < int(ix.bcut[2][vb[2]+1]); c2++ {
 		for c1 := int(ix.bcut[1][vb[1]]); c1 < int(ix.bcut[1][vb[1]+1]); c1++ {
 			for c0 := int(ix.bcut[0][vb[0]]); c0 < int(ix.bcut[0][vb[0]+1]); c0++ {
-				u := [3]int{
-					c0 + (v[0]-vb[0])/ix.nb[0]*ix.dims[0],
-					c1 + (v[1]-vb[1])/ix.nb[1]*ix.dims[1],
-					c2 + (v[2]-vb[2])/ix.nb[2]*ix.dims[2],
-				}
-				wk.testCell(ix, out, f, bs, u, [3]int{c0, c1, c2}, shift)
+				wk.testCell(ix, out, bs, [3]int{c0, c1, c2}, shift)
 			}
 		}
 	}
 }
 
-// testCell appends grid cell c (unwrapped coordinates u, periodic shift)
-// to wk.extra unless its bound rules it out for every cell of the ball set.
-func (wk *worker) testCell(ix *Index, out *Cells, f *frame, bs *ballSet, u, c [3]int, shift [3]float64) {
+// testCell appends grid cell c (with a periodic shift) to wk.extra unless
+// its bound rules it out for every cell of the ball set.
+func (wk *worker) testCell(ix *Index, out *Cells, bs *ballSet, c [3]int, shift [3]float64) {
 	cell := (c[2]*ix.dims[1]+c[1])*ix.dims[0] + c[0]
 	r := int(ix.crank[cell])
 	if ix.start[r] == ix.start[r+1] {
 		return
 	}
-	xc := xcell{cell: int32(cell), r: int32(r), u: [3]int32{int32(u[0]), int32(u[1]), int32(u[2])}, shift: shift}
+	xc := xcell{cell: int32(cell), r: int32(r), shift: shift}
 	blk := ix.blockOf(c[0], c[1], c[2])
 	for k := 0; k < 3; k++ {
 		xc.lo[k] = ix.lo[k] + float64(c[k])*ix.g[k] + shift[k]

@@ -105,9 +105,9 @@ type worker struct {
 	ta3                      []float64 // frame of each point of the block
 	tball                    []float64 // ball centre (3), radius and power of each cell of the block
 	extra, px                []xcell
-	again                    int // cells computed again after the block test (diagnostics)
-	nCells, nPts             int // grid cells and points scanned (diagnostics)
-	nExtra, nBlocks, nShells int
+	again                    int     // cells computed again after the block test (diagnostics)
+	nCells, nPts             int     // grid cells and points scanned (diagnostics)
+	nExtra, nBlocks, nShells int     // far test: grid cells kept, octants, block shells (diagnostics)
 	grp                      []int32 // points of the current octant (block positions)
 }
 
