@@ -11,6 +11,8 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"github.com/filigree-survey/filigree/survey"
 )
 
 // TestPlotAndReport makes a small survey run (mock, then run with a
@@ -36,6 +38,24 @@ func TestPlotAndReport(t *testing.T) {
 	if code, _, e := run(t, "run", mock, "--footprint", reg, "-o", out, "--fields", fields, "--summary", sum,
 		"--max-grid", "64", "--quiet"); code != exitOK {
 		t.Fatalf("run: %s", e)
+	}
+	// The default reconstruction is transport: galaxies whose Laguerre
+	// cell borders the fill carry flag bit 32; in this small survey about
+	// half do (it is a thin slab), but not all.
+	if tab, err := survey.Read(out, survey.ReadOptions{}); err != nil {
+		t.Fatal(err)
+	} else if fl := tab.Col("flags"); fl == nil || tab.Col("web_lagr") == nil {
+		t.Fatal("run output lacks flags or web_lagr")
+	} else {
+		edge := 0
+		for _, v := range fl.I {
+			if v&32 != 0 {
+				edge++
+			}
+		}
+		if edge == 0 || edge > len(fl.I)*9/10 {
+			t.Errorf("%d of %d galaxies flagged as bordering the fill, want some but not nearly all", edge, len(fl.I))
+		}
 	}
 	inputs := []string{"--fields", fields, "--footprint", reg, "--run-summary", sum}
 	for _, kind := range []string{"wedge", "slice", "sky", "nz", "fractions", "density"} {

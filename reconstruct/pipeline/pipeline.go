@@ -53,7 +53,7 @@ var FlagDescriptions = []struct {
 	{FlagDuplicate, "duplicate", "same position as an earlier row; merged in the tessellation"},
 	{FlagNoWeight, "no_weight", "outside the footprint or the n(z) range: no density or label"},
 	{FlagHull, "hull", "Voronoi cell cut by the convex hull: DTFE density biased high"},
-	{FlagReconEdge, "recon_edge", "within one mean separation of the survey boundary: the reconstruction feels the fill particles"},
+	{FlagReconEdge, "recon_edge", "transport: the galaxy's Laguerre cell borders a fill particle; zeldovich: within one mean separation of the survey boundary. The fill's uniform mass pulls the displacement towards the survey's inside"},
 }
 
 // NoLabel is the web code of galaxies without a label.

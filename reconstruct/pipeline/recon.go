@@ -19,9 +19,11 @@ const (
 	ReconTransport = "transport" // semi-discrete optimal transport (inverse least action)
 )
 
-// FlagReconEdge marks galaxies within one mean separation of the survey's
-// boundary: their transport cells can border fill particles, whose uniform
-// mass biases the displacement towards the survey's inside.
+// FlagReconEdge marks galaxies whose reconstruction feels the fill: with
+// transport, those whose Laguerre cell borders a fill particle or the
+// coarse lattice, whose uniform mass biases the displacement towards the
+// survey's inside; with the Zel'dovich estimate, those within one mean
+// separation of the survey's boundary.
 const FlagReconEdge uint32 = 1 << 5
 
 // ReconOptions configure the reconstruction of Lagrangian positions.
@@ -180,6 +182,24 @@ func reconstruct(st *stepper, res *Result, use []int, mass []float64, fillXYZ []
 				}
 			}
 		}
+		if !periodic {
+			// Flag the galaxies whose cells border a fill particle or the
+			// coarse lattice.
+			cells := tr.Cells
+			isGal := make([]bool, len(pm))
+			for k := 0; k < len(x)/3; k++ {
+				isGal[rep[k]] = true
+			}
+			for k, i := range use {
+				j := rep[k]
+				for _, nb := range cells.Nbr[cells.NbrStart[j]:cells.NbrStart[j+1]] {
+					if !isGal[nb] {
+						res.Flags[i] |= FlagReconEdge
+						break
+					}
+				}
+			}
+		}
 		q = make([]float64, len(x))
 		disp = make([]float64, len(x))
 		for k := 0; k < len(x)/3; k++ {
@@ -257,7 +277,7 @@ func reconstruct(st *stepper, res *Result, use []int, mass []float64, fillXYZ []
 			v := 100 * m.E(zi) / (1 + zi) * m.GrowthRate(zi) * pl
 			rr.VPecLOS[i] = v
 			rr.ZCosmo[i] = (1+zi)/(1+v/cosmo.SpeedOfLight) - 1
-			if res.EdgeDist != nil && res.EdgeDist[i] < res.MeanSeparation {
+			if opt.Mode != ReconTransport && res.EdgeDist != nil && res.EdgeDist[i] < res.MeanSeparation {
 				res.Flags[i] |= FlagReconEdge
 			}
 		}

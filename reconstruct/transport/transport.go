@@ -166,6 +166,10 @@ type Result struct {
 	// whole to its point (position units to the fifth).
 	DispCost float64
 
+	// Cells are the Laguerre cells at Psi: neighbour lists and facet
+	// areas (which points' cells touch), volumes and centroids.
+	Cells *laguerre.Cells
+
 	// Stats describes the iterations.
 	Stats Stats
 }
@@ -255,6 +259,7 @@ func Solve(pos, mass []float64, opt Options) (*Result, error) {
 
 // finish fills the outputs of res from the converged cells.
 func finish(res *Result, y, psi []float64, cells *laguerre.Cells, opt Options) {
+	res.Cells = cells
 	n := len(psi)
 	mean := 0.0
 	for _, v := range psi {
