@@ -471,19 +471,15 @@ func (wk *worker) block(ix *Index, out *Cells, b int, cb *chunkBuf, warm bool, p
 func (wk *worker) xcellBound(ix *Index, out *Cells, xc xcell, xi, a [3]float64, pi float64) (float64, float64) {
 	d2 := 0.0
 	var rel [3]float64
-	for a := 0; a < 3; a++ {
-		lo := xc.lo[a]
-		if d := lo - xi[a]; d > 0 {
+	for k := 0; k < 3; k++ {
+		if d := xc.lo[k] - xi[k]; d > 0 {
 			d2 += d * d
-		} else if d := xi[a] - lo - ix.g[a]; d > 0 {
+		} else if d := xi[k] - xc.hi[k]; d > 0 {
 			d2 += d * d
 		}
-		rel[a] = lo + 0.5*ix.g[a] - xi[a]
+		rel[k] = xc.c[k] - xi[k]
 	}
-	c := int(xc.cell)
-	c0, c1, c2 := c%ix.dims[0], c/ix.dims[0]%ix.dims[1], c/(ix.dims[0]*ix.dims[1])
-	w := cellW(ix, out, int(ix.crank[c]), ix.blockOf(c0, c1, c2), rel, a)
-	return d2, pi - w
+	return d2, pi - cellW(ix, out, int(xc.r), int(xc.blk), rel, a)
 }
 
 // cell computes the cell of the point at sorted position q, the k-th of the
